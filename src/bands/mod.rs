@@ -1,0 +1,1 @@
+//! Band deconvolution in wavenumber space. (Being built.)

@@ -1,0 +1,9 @@
+//! `ddlens diagram`.
+
+use super::{Args, CliError};
+
+pub fn run(_args: &mut Args, _json: bool) -> Result<(), CliError> {
+    Err(CliError::Failed(
+        "'diagram' is not available in this build yet".into(),
+    ))
+}

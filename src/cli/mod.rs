@@ -1,0 +1,92 @@
+//! The command-line face of every engine.
+//!
+//! Each subcommand lives in its own file and prints either a table for a
+//! chemist or, with `--json`, the same serde types the browser facade returns.
+//! This module only parses arguments and dispatches; it holds no science.
+
+mod analyze;
+mod args;
+mod deconvolve;
+mod diagram;
+mod fit;
+mod import;
+mod levels;
+
+pub use args::{Args, CliError};
+
+const HELP: &str = "\
+ddlens — ligand-field analysis of d–d absorption spectra
+
+USAGE:
+    ddlens <COMMAND> [OPTIONS]
+
+COMMANDS:
+    levels      energy levels of a dⁿ ion for given Dq, B, C
+    diagram     energy-level (Tanabe–Sugano type) diagram as SVG, CSV or JSON
+    fit         10Dq, B, C from observed band maxima, with the assignment search
+    import      read a spectrum file (CSV/TXT, JCAMP-DX) and report what was found
+    deconvolve  resolve overlapping bands of a spectrum
+    analyze     the whole pipeline: import, bands, assignment and fit
+
+OPTIONS:
+    --json      machine-readable output (the same schema as the browser and saved projects)
+    --help      this text; `ddlens <COMMAND> --help` for a command's options
+    --version   the program version
+
+Results are model estimates; they need a chemist's judgement.
+";
+
+/// Runs the command line; returns the process exit code.
+pub fn main(argv: Vec<String>) -> i32 {
+    let mut args = Args::new(argv);
+    let json = args.flag("--json");
+    match run(&mut args, json) {
+        Ok(()) => 0,
+        Err(err) => {
+            if json {
+                let doc = serde_json::json!({ "error": { "kind": err.kind(), "message": err.to_string() } });
+                println!("{doc}");
+            }
+            eprintln!("ddlens: {err}");
+            err.exit_code()
+        }
+    }
+}
+
+fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
+    let Some(command) = args.next_positional() else {
+        if args.flag("--version") || args.flag("-V") {
+            println!("ddlens {}", crate::VERSION);
+            return Ok(());
+        }
+        print!("{HELP}");
+        return if args.flag("--help") || args.flag("-h") {
+            Ok(())
+        } else {
+            Err(CliError::Usage("no command given".into()))
+        };
+    };
+    match command.as_str() {
+        "levels" => levels::run(args, json),
+        "diagram" => diagram::run(args, json),
+        "fit" => fit::run(args, json),
+        "import" => import::run(args, json),
+        "deconvolve" => deconvolve::run(args, json),
+        "analyze" => analyze::run(args, json),
+        "help" => {
+            print!("{HELP}");
+            Ok(())
+        }
+        other => Err(CliError::Usage(format!(
+            "unknown command '{other}'; see `ddlens --help`"
+        ))),
+    }
+}
+
+/// Prints a serializable value as one line of JSON.
+#[allow(dead_code)] // used by the subcommands as they land
+pub(crate) fn print_json<T: serde::Serialize>(value: &T) -> Result<(), CliError> {
+    let text = serde_json::to_string_pretty(value).map_err(|e| CliError::Failed(e.to_string()))?;
+    println!("{text}");
+    Ok(())
+}

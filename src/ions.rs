@@ -1,0 +1,1 @@
+//! Ions, their dⁿ configurations and free-ion Racah parameters with sources. (Being built.)

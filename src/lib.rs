@@ -1,0 +1,21 @@
+//! ddlens: a ligand-field analysis workbench for d–d absorption spectra.
+//!
+//! The numeric core (every module here except `web`) is plain Rust: it never
+//! imports wasm-bindgen, web-sys or js-sys, and runs under `cargo test`.
+//! See DEVELOPERS.md for the code map and the invariants.
+
+pub mod bands;
+pub mod cli;
+pub mod estimate;
+pub mod ions;
+pub mod lf_fit;
+pub mod ligand_field;
+pub mod pipeline;
+pub mod plot;
+pub mod spectrum;
+
+#[cfg(target_arch = "wasm32")]
+pub mod web;
+
+/// The program version, as in Cargo.toml.
+pub const VERSION: &str = env!("CARGO_PKG_VERSION");

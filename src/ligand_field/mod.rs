@@ -1,0 +1,1 @@
+//! Exact dⁿ energy levels in cubic (octahedral and tetrahedral) fields. (Being built.)

@@ -1,0 +1,1 @@
+//! Drawing code shared by the browser canvas and SVG export. (Being built.)

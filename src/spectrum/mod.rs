@@ -1,0 +1,1 @@
+//! Spectrum import, units and preprocessing. (Being built.)

@@ -1,0 +1,1 @@
+//! The browser facade: the only code compiled with wasm-bindgen. (Being built.)
