@@ -1,0 +1,29 @@
+// The compute worker: holds its own wasm instance and runs the long jobs
+// (import, fitting) so that the page never blocks. Messages in:
+// {type:'init', module} then {id, type, ...}; out: {id, ok, result|error} and {id, progress}.
+/* global wasm_bindgen, importScripts */
+if (typeof wasm_bindgen === 'undefined') importScripts('ddlens_glue.js');
+
+const jobs = {
+  version: () => wasm_bindgen.version(),
+};
+
+let ready = null;
+self.onmessage = async (event) => {
+  const msg = event.data;
+  if (msg.type === 'init') {
+    ready = wasm_bindgen({ module_or_path: msg.module });
+    try { await ready; self.postMessage({ type: 'ready' }); }
+    catch (e) { self.postMessage({ type: 'init-failed', error: String(e && e.message || e) }); }
+    return;
+  }
+  await ready;
+  const job = jobs[msg.type];
+  try {
+    if (!job) throw new Error(`unknown job '${msg.type}'`);
+    const result = job(msg, (progress) => self.postMessage({ id: msg.id, progress }));
+    self.postMessage({ id: msg.id, ok: true, result });
+  } catch (e) {
+    self.postMessage({ id: msg.id, ok: false, error: String(e && e.message || e) });
+  }
+};
