@@ -4,8 +4,86 @@
 /* global wasm_bindgen, importScripts */
 if (typeof wasm_bindgen === 'undefined') importScripts('ddlens_glue.js');
 
+// TEMPORARY stand-in for the core importer (spectrum::import, branch `import`):
+// it returns the contract's ImportReport shape so that switching to
+// `wasm_bindgen.import_spectrum(bytes, name, opts)` changes only `jobs.import`.
+// Reads two-column delimited text and AFFN JCAMP-DX (X++(Y..Y)); no units beyond nm/cm⁻¹.
+const interim = (() => {
+  const fail = (line, message) => { throw new Error(line ? `line ${line}: ${message}` : message); };
+  function finish(name, xs, ys, xUnit, opts, meta, warnings, format) {
+    const unit = opts.x_unit || xUnit;
+    const pts = xs.map((v, i) => [unit === 'nanometre' ? 1e7 / v : v, ys[i]]).sort((a, b) => a[0] - b[0]);
+    return {
+      format,
+      spectra: [{
+        name, wavenumber: pts.map((p) => p[0]), values: pts.map((p) => p[1]),
+        quantity: opts.y_quantity || 'absorbance', x_unit_read: unit, saturated: [], metadata: meta, warnings,
+      }],
+      warnings: [],
+    };
+  }
+  function delimited(text, name, opts) {
+    const lines = text.replace(/^\uFEFF/, '').split(/\r?\n/);
+    const xs = [], ys = [], meta = {}, warnings = [];
+    let header = '', started = false;
+    for (let i = 0; i < lines.length; i++) {
+      const raw = lines[i].trim();
+      if (!raw) { if (started) break; continue; }
+      const cells = raw.split(/\s*[,;\t]\s*|\s+/).filter((c) => c !== '');
+      const nums = cells.map(Number);
+      if (nums.length >= 2 && Number.isFinite(nums[0]) && Number.isFinite(nums[1])) {
+        started = true; xs.push(nums[0]); ys.push(nums[1]);
+      } else if (started) {
+        fail(i + 1, `expected two numbers, found '${raw.slice(0, 40)}'`);
+      } else {
+        header += ` ${raw}`;
+        if (i === 0) meta.title = raw.replace(/,+$/, '');
+      }
+    }
+    if (xs.length < 2) fail(null, 'no two-column numeric data found');
+    const nm = /nm|wavelength/i.test(header) || (!/cm|wavenumber/i.test(header) && xs[0] < 3000);
+    return finish(name, xs, ys, nm ? 'nanometre' : 'wavenumber', opts, meta, warnings, 'delimited text');
+  }
+  function jcamp(text, name, opts) {
+    const lines = text.split(/\r?\n/);
+    const meta = {}, xs = [], ys = [];
+    let xf = 1, yf = 1, inData = false, step = null, npoints = null, first = null, last = null;
+    for (let i = 0; i < lines.length; i++) {
+      const line = lines[i].trim();
+      const m = /^##([^=]+)=\s*(.*)$/.exec(line);
+      if (m) {
+        const key = m[1].trim().toUpperCase(), value = m[2].trim();
+        inData = key === 'XYDATA';
+        if (inData && !/\(X\+\+\(Y\.\.Y\)\)/.test(value)) fail(i + 1, `unsupported data form '${value}'`);
+        if (key === 'XFACTOR') xf = Number(value);
+        else if (key === 'YFACTOR') yf = Number(value);
+        else if (key === 'NPOINTS') npoints = Number(value);
+        else if (key === 'FIRSTX') first = Number(value);
+        else if (key === 'LASTX') last = Number(value);
+        else if (!inData && key !== 'END') meta[key.toLowerCase()] = value;
+        if (inData && npoints > 1) step = (last - first) / (npoints - 1);
+        continue;
+      }
+      if (!inData || !line) continue;
+      const cells = line.split(/\s+/).map(Number);
+      if (!cells.every(Number.isFinite)) fail(i + 1, `only plain numbers (AFFN) are read for now, found '${line.slice(0, 40)}'`);
+      const x0 = cells[0] * xf;
+      cells.slice(1).forEach((v, k) => { xs.push(x0 + k * (step ?? xf)); ys.push(v * yf); });
+    }
+    if (xs.length < 2) fail(null, 'no ##XYDATA block found');
+    const warnings = npoints && npoints !== xs.length ? [{ line: null, message: `##NPOINTS says ${npoints}, ${xs.length} read` }] : [];
+    const unit = /NANOMETERS|NM/i.test(meta.xunits || '') ? 'nanometre' : 'wavenumber';
+    return finish(meta.title || name, xs, ys, unit, opts, meta, warnings, 'JCAMP-DX');
+  }
+  return (bytes, name, opts) => {
+    const text = new TextDecoder().decode(bytes);
+    return /^\s*##/.test(text) ? jcamp(text, name, opts) : delimited(text, name, opts);
+  };
+})();
+
 const jobs = {
   version: () => wasm_bindgen.version(),
+  import: (msg) => interim(msg.bytes, msg.name, msg.options || {}),
 };
 
 let ready = null;

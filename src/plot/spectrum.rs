@@ -189,8 +189,12 @@ pub fn draw<DB: DrawingBackend>(
     let clip = |v: f64| v.clamp(y[0], y[1]);
     for span in &fig.shaded {
         let (a, b) = (to_bottom(span[0]), to_bottom(span[1]));
+        let (a, b) = (a.min(b).max(bx[0]), a.max(b).min(bx[1]));
+        if a >= b {
+            continue;
+        }
         chart.draw_series(std::iter::once(Rectangle::new(
-            [(a.min(b), y[0]), (a.max(b), y[1])],
+            [(a, y[0]), (b, y[1])],
             RGBColor(120, 120, 120).mix(0.18).filled(),
         )))?;
     }
@@ -203,14 +207,22 @@ pub fn draw<DB: DrawingBackend>(
             )))?;
         }
     }
+    let (px_lo, _) = chart.backend_coord(&(bx[0], y[1]));
+    let (px_hi, _) = chart.backend_coord(&(bx[1], y[1]));
+    let columns = (px_hi - px_lo).unsigned_abs().max(1) as usize;
     for line in &fig.lines {
         let colour = palette::parse_hex(&line.colour);
-        let pts = line
+        let visible: Vec<(f64, f64)> = line
             .x
             .iter()
             .zip(&line.y)
             .filter(|(a, b)| a.is_finite() && b.is_finite())
-            .map(|(a, b)| (to_bottom(*a), clip(*b)));
+            .map(|(a, b)| (to_bottom(*a), *b))
+            .collect();
+        let visible = clip_to_x_range(visible, bx);
+        let pts = decimate(&visible, bx, columns)
+            .into_iter()
+            .map(|(a, b)| (a, clip(b)));
         if line.fill {
             chart.draw_series(AreaSeries::new(pts, clip(0.0), colour.mix(0.25).filled()))?;
         } else if line.dashed {
@@ -291,6 +303,84 @@ pub fn draw<DB: DrawingBackend>(
     })
 }
 
+/// The part of a polyline inside `[range[0], range[1]]` in x, sorted by x,
+/// with the segments that cross an edge cut at the edge (interpolated), so
+/// that nothing is drawn outside the plot area when zoomed in.
+pub fn clip_to_x_range(mut pts: Vec<(f64, f64)>, range: [f64; 2]) -> Vec<(f64, f64)> {
+    pts.sort_by(|a, b| a.0.total_cmp(&b.0));
+    let [lo, hi] = range;
+    let at = |a: (f64, f64), b: (f64, f64), x: f64| {
+        let t = if b.0 == a.0 {
+            0.0
+        } else {
+            (x - a.0) / (b.0 - a.0)
+        };
+        (x, a.1 + t * (b.1 - a.1))
+    };
+    let mut out = Vec::with_capacity(pts.len());
+    for (i, p) in pts.iter().enumerate() {
+        let inside = p.0 >= lo && p.0 <= hi;
+        if let Some(prev) = i.checked_sub(1).and_then(|j| pts.get(j)) {
+            if prev.0 < lo && p.0 > lo {
+                out.push(at(*prev, *p, lo));
+            }
+            if prev.0 < hi && p.0 > hi {
+                out.push(at(*prev, *p, hi));
+            }
+        }
+        if inside {
+            out.push(*p);
+        }
+    }
+    out
+}
+
+/// Min/max decimation per pixel column: for a polyline sorted by x with many
+/// more points than `columns`, keeps in each column the first, lowest,
+/// highest and last point (in x order), so the drawn envelope is exactly the
+/// one of the full data while at most 4 points per column cross to the backend.
+pub fn decimate(pts: &[(f64, f64)], range: [f64; 2], columns: usize) -> Vec<(f64, f64)> {
+    let span = range[1] - range[0];
+    if pts.len() <= 4 * columns.max(1) || !(span > 0.0) {
+        return pts.to_vec();
+    }
+    let column = |x: f64| {
+        (((x - range[0]) / span * columns as f64).floor()).clamp(0.0, columns as f64) as usize
+    };
+    let mut out = Vec::with_capacity(4 * columns + 4);
+    let mut start = 0;
+    while start < pts.len() {
+        let c = pts.get(start).map(|p| column(p.0)).unwrap_or(0);
+        let mut end = start;
+        while end < pts.len() && pts.get(end).map(|p| column(p.0)) == Some(c) {
+            end += 1;
+        }
+        let group = pts.get(start..end).unwrap_or(&[]);
+        let (mut lo, mut hi) = (0, 0);
+        for (k, p) in group.iter().enumerate() {
+            if group.get(lo).is_some_and(|q| p.1 < q.1) {
+                lo = k;
+            }
+            if group.get(hi).is_some_and(|q| p.1 > q.1) {
+                hi = k;
+            }
+        }
+        let mut keep = [0, lo.min(hi), lo.max(hi), group.len().saturating_sub(1)];
+        keep.sort_unstable();
+        let mut last = usize::MAX;
+        for k in keep {
+            if k != last {
+                if let Some(p) = group.get(k) {
+                    out.push(*p);
+                }
+                last = k;
+            }
+        }
+        start = end.max(start + 1);
+    }
+    out
+}
+
 /// A compact axis number: no trailing zeros.
 fn trim_number(v: f64) -> String {
     let t = format!("{v:.3}");
@@ -329,6 +419,35 @@ mod tests {
         assert_eq!(t.last(), Some(&1000.0));
         assert!(nice_ticks(1.0, 1.0, 5).is_empty());
         assert!(nice_ticks(f64::NAN, 1.0, 5).is_empty());
+    }
+
+    #[test]
+    fn decimation_keeps_the_envelope_and_bounds_the_point_count() {
+        // 10 000 points of a fast oscillation over 100 columns: every column's
+        // extreme values survive and at most 4 points per column are kept.
+        let pts: Vec<(f64, f64)> = (0..10_000)
+            .map(|i| (i as f64, ((i * 7919) % 1000) as f64))
+            .collect();
+        let out = decimate(&pts, [0.0, 10_000.0], 100);
+        assert!(out.len() <= 400, "{} points kept", out.len());
+        for c in 0..100 {
+            let col = |p: &&(f64, f64)| (p.0 / 100.0).floor() as usize == c;
+            let max_in = pts.iter().filter(col).map(|p| p.1).fold(f64::MIN, f64::max);
+            let max_out = out.iter().filter(col).map(|p| p.1).fold(f64::MIN, f64::max);
+            let min_in = pts.iter().filter(col).map(|p| p.1).fold(f64::MAX, f64::min);
+            let min_out = out.iter().filter(col).map(|p| p.1).fold(f64::MAX, f64::min);
+            assert_eq!((max_in, min_in), (max_out, min_out), "column {c}");
+        }
+        // Few points pass through untouched.
+        assert_eq!(decimate(&pts[..50], [0.0, 50.0], 100), pts[..50].to_vec());
+    }
+
+    #[test]
+    fn clipping_cuts_segments_at_the_edges() {
+        let pts = vec![(0.0, 0.0), (10.0, 10.0), (20.0, 0.0)];
+        let out = clip_to_x_range(pts, [5.0, 15.0]);
+        assert_eq!(out, vec![(5.0, 5.0), (10.0, 10.0), (15.0, 5.0)]);
+        assert!(clip_to_x_range(vec![(1.0, 1.0)], [5.0, 6.0]).is_empty());
     }
 
     #[test]
