@@ -341,7 +341,7 @@ pub fn clip_to_x_range(mut pts: Vec<(f64, f64)>, range: [f64; 2]) -> Vec<(f64, f
 /// one of the full data while at most 4 points per column cross to the backend.
 pub fn decimate(pts: &[(f64, f64)], range: [f64; 2], columns: usize) -> Vec<(f64, f64)> {
     let span = range[1] - range[0];
-    if pts.len() <= 4 * columns.max(1) || !(span > 0.0) {
+    if pts.len() <= 4 * columns.max(1) || span.is_nan() || span <= 0.0 {
         return pts.to_vec();
     }
     let column = |x: f64| {
