@@ -1,1 +1,4 @@
-//! Band deconvolution in wavenumber space. (Being built.)
+//! Band deconvolution in wavenumber space.
+pub mod lm;
+pub mod shapes;
+pub mod stats;

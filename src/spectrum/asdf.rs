@@ -1,0 +1,1 @@
+//! ASDF. (Being built.)
