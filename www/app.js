@@ -256,8 +256,8 @@ const ddlens = (() => {
   /** The y values shown for a sample in the chosen y mode, or null with a reason. */
   function shownValues(s) {
     const mode = state.view.yMode;
-    if (mode === 'a' || s.quantity === 'molar-absorptivity' && mode === 'eps') return s.values;
-    const cl = s.quantity === 'molar-absorptivity' ? 1 : (s.concentration || 0) * (s.path || 0);
+    if (mode === 'a' || s.quantity === 'molar_absorptivity' && mode === 'eps') return s.values;
+    const cl = s.quantity === 'molar_absorptivity' ? 1 : (s.concentration || 0) * (s.path || 0);
     if (!(cl > 0)) return null;
     const eps = s.values.map((v) => v / cl);
     return mode === 'eps' ? eps : eps.map((v) => (v > 0 ? Math.log10(v) : NaN));

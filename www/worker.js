@@ -4,15 +4,15 @@
 /* global wasm_bindgen, importScripts */
 if (typeof wasm_bindgen === 'undefined') importScripts('ddlens_glue.js');
 
-// TEMPORARY stand-in for the core importer (spectrum::import, branch `import`):
-// it returns the contract's ImportReport shape so that switching to
-// `wasm_bindgen.import_spectrum(bytes, name, opts)` changes only `jobs.import`.
-// Reads two-column delimited text and AFFN JCAMP-DX (X++(Y..Y)); no units beyond nm/cm⁻¹.
-const interim = (() => {
+// TEMPORARY stand-in for the core JCAMP-DX reader (spectrum::jcamp is still a
+// stub on main): reads AFFN (X++(Y..Y)) only and returns the contract's
+// ImportReport shape. Delimited text already goes to the core importer; once
+// the core reads JCAMP, delete this block and the branch in `jobs.import`.
+const interimJcamp = (() => {
   const fail = (line, message) => { throw new Error(line ? `line ${line}: ${message}` : message); };
   function finish(name, xs, ys, xUnit, opts, meta, warnings, format) {
     const unit = opts.x_unit || xUnit;
-    const pts = xs.map((v, i) => [unit === 'nanometre' ? 1e7 / v : v, ys[i]]).sort((a, b) => a[0] - b[0]);
+    const pts = xs.map((v, i) => [unit === 'nm' ? 1e7 / v : v, ys[i]]).sort((a, b) => a[0] - b[0]);
     return {
       format,
       spectra: [{
@@ -21,28 +21,6 @@ const interim = (() => {
       }],
       warnings: [],
     };
-  }
-  function delimited(text, name, opts) {
-    const lines = text.replace(/^\uFEFF/, '').split(/\r?\n/);
-    const xs = [], ys = [], meta = {}, warnings = [];
-    let header = '', started = false;
-    for (let i = 0; i < lines.length; i++) {
-      const raw = lines[i].trim();
-      if (!raw) { if (started) break; continue; }
-      const cells = raw.split(/\s*[,;\t]\s*|\s+/).filter((c) => c !== '');
-      const nums = cells.map(Number);
-      if (nums.length >= 2 && Number.isFinite(nums[0]) && Number.isFinite(nums[1])) {
-        started = true; xs.push(nums[0]); ys.push(nums[1]);
-      } else if (started) {
-        fail(i + 1, `expected two numbers, found '${raw.slice(0, 40)}'`);
-      } else {
-        header += ` ${raw}`;
-        if (i === 0) meta.title = raw.replace(/,+$/, '');
-      }
-    }
-    if (xs.length < 2) fail(null, 'no two-column numeric data found');
-    const nm = /nm|wavelength/i.test(header) || (!/cm|wavenumber/i.test(header) && xs[0] < 3000);
-    return finish(name, xs, ys, nm ? 'nanometre' : 'wavenumber', opts, meta, warnings, 'delimited text');
   }
   function jcamp(text, name, opts) {
     const lines = text.split(/\r?\n/);
@@ -72,18 +50,17 @@ const interim = (() => {
     }
     if (xs.length < 2) fail(null, 'no ##XYDATA block found');
     const warnings = npoints && npoints !== xs.length ? [{ line: null, message: `##NPOINTS says ${npoints}, ${xs.length} read` }] : [];
-    const unit = /NANOMETERS|NM/i.test(meta.xunits || '') ? 'nanometre' : 'wavenumber';
+    const unit = /NANOMETERS|NM/i.test(meta.xunits || '') ? 'nm' : 'cm-1';
     return finish(meta.title || name, xs, ys, unit, opts, meta, warnings, 'JCAMP-DX');
   }
-  return (bytes, name, opts) => {
-    const text = new TextDecoder().decode(bytes);
-    return /^\s*##/.test(text) ? jcamp(text, name, opts) : delimited(text, name, opts);
-  };
+  return (bytes, name, opts) => jcamp(new TextDecoder().decode(bytes), name, opts);
 })();
 
 const jobs = {
   version: () => wasm_bindgen.version(),
-  import: (msg) => interim(msg.bytes, msg.name, msg.options || {}),
+  import: (msg) => (/^\s*##/.test(new TextDecoder().decode(msg.bytes.subarray(0, 200)))
+    ? interimJcamp(msg.bytes, msg.name, msg.options || {})
+    : wasm_bindgen.import_spectrum(msg.bytes, msg.name, msg.options || null)),
 };
 
 let ready = null;

@@ -68,3 +68,21 @@ pub fn spectrum_svg(figure: JsValue, width: u32, height: u32) -> Result<String, 
     let fig: SpectrumFigure = from_js(figure, "the figure description")?;
     Ok(spectrum_plot::to_svg(&fig, width, height)?)
 }
+
+/// Reads a spectrum file (`spectrum::import`); `options` is an `ImportOptions`
+/// object or null. Errors carry the importer's sentence ("line 7: …").
+#[wasm_bindgen]
+pub fn import_spectrum(
+    bytes: &[u8],
+    file_name: &str,
+    options: JsValue,
+) -> Result<JsValue, JsError> {
+    let opts: crate::spectrum::ImportOptions = if options.is_null() || options.is_undefined() {
+        Default::default()
+    } else {
+        from_js(options, "the import settings")?
+    };
+    let report = crate::spectrum::import(bytes, file_name, &opts)
+        .map_err(|e| JsError::new(&e.to_string()))?;
+    to_js(&report)
+}

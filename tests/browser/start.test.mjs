@@ -12,7 +12,7 @@ for (const [name, url] of [['file://', () => fileUrl()], ['http', () => site.url
   test(`demo spectrum is drawn from ${name}, the worker runs, nothing leaves the machine`, async () => {
     const { context, page, log } = await openPage(browser, url());
     assert.equal(await page.evaluate(() => document.body.dataset.ready), 'true', 'the page did not finish starting');
-    assert.equal(await page.locator('#sample-list li input[type=text]').inputValue(), 'CrX-7 (demo)');
+    assert.equal(await page.locator('#sample-list li input[type=text]').inputValue(), 'CrX-7 (demo: invented Cr3+-doped host)');
     assert.match(await page.locator('#sample-list').innerText(), /601 points/);
     // Sharp on high-DPI: the canvas backing store is CSS size × devicePixelRatio.
     const dims = await page.evaluate(() => { const c = document.querySelector('#spectrum-canvas'); return [c.width, c.getBoundingClientRect().width]; });
