@@ -86,3 +86,10 @@ pub fn import_spectrum(
         .map_err(|e| JsError::new(&e.to_string()))?;
     to_js(&report)
 }
+
+/// Savitzky–Golay smoothing (`spectrum::preprocess::savgol`, derivative 0).
+#[wasm_bindgen]
+pub fn smooth_savgol(y: &[f64], window: usize, order: usize) -> Result<Vec<f64>, JsError> {
+    crate::spectrum::preprocess::savgol(y, window, order, 0)
+        .map_err(|e| JsError::new(&e.to_string()))
+}

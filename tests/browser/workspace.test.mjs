@@ -137,3 +137,32 @@ test('redraw of 5 000 points (measured, printed, not asserted)', async () => {
   console.log(`# redraw 5000 points at DPR 2: median ${ms.toFixed(1)} ms`);
   await context.close();
 });
+
+test('cleaning: crop and smoothing apply to one sample, show the file data beneath, and undo', async () => {
+  const { context, page, log } = await openPage(browser, site.url);
+  await page.locator('#cleaning summary').click();
+  await page.locator('#crop-lo').fill('14000');
+  await page.locator('#crop-hi').fill('26000');
+  await page.locator('#smooth-on').check();
+  await page.locator('#clean-apply').click();
+  const s = await page.evaluate(() => {
+    const v = window.ddlens.state.samples[0];
+    return { n: v.wavenumber.length, lo: v.wavenumber[0], hi: v.wavenumber.at(-1), raw: v.raw.wavenumber.length };
+  });
+  assert.equal(s.raw, 601);
+  assert.ok(s.n < 601 && s.lo >= 14000 && s.hi <= 26000, JSON.stringify(s));
+  assert.match(await page.locator('#sample-list').innerText(), new RegExp(`${s.n} points`));
+  await page.locator('.plot-area').screenshot({ path: `${OUTPUT}/cleaning.png` });
+  await page.locator('#undo-button').click();
+  assert.equal(await page.evaluate(() => window.ddlens.state.samples[0].wavenumber.length), 601);
+  // A window longer than the spectrum: the core's sentence, nothing changed.
+  await page.locator('#crop-lo').fill('14000');
+  await page.locator('#crop-hi').fill('14100');
+  await page.locator('#smooth-on').check();
+  await page.locator('#smooth-window').fill('51');
+  await page.locator('#clean-apply').click();
+  assert.match(await page.locator('#messages p').first().innerText(), /at least 51 points/);
+  assert.equal(await page.evaluate(() => window.ddlens.state.samples[0].wavenumber.length), 601);
+  assert.deepEqual(log.errors, []);
+  await context.close();
+});
