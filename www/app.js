@@ -328,7 +328,7 @@ const ddlens = (() => {
       if (!s.visible) continue;
       const y = shownValues(s);
       if (!y) continue;
-      if (s.processing && state.view.yMode === 'a') lines.push({ x: s.raw.wavenumber, y: s.raw.values, colour: '#9a9a9a', width: 1 });
+      if (s.processing && state.view.yMode === 'a') lines.push({ x: s.raw.wavenumber, y: s.raw.values, colour: '#858585', width: 1 });
       lines.push({ x: s.wavenumber, y, colour: s.colour, width: 1.5 });
       shaded.push(...s.saturated);
     }
@@ -586,6 +586,7 @@ const ddlens = (() => {
     await loadDemo();
     history.past = [];
     refresh();
+    document.body.dataset.readyMs = performance.now().toFixed(0);
     document.body.dataset.ready = 'true';
   }
 

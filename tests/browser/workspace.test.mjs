@@ -166,3 +166,22 @@ test('cleaning: crop and smoothing apply to one sample, show the file data benea
   assert.deepEqual(log.errors, []);
   await context.close();
 });
+
+test('pasted spreadsheet columns become a sample; the open button takes several files', async () => {
+  const { context, page, log } = await openPage(browser, fileUrl());
+  await page.evaluate(() => {
+    const rows = ['wavelength (nm)\tAbs'];
+    for (let nm = 700; nm >= 400; nm -= 5) rows.push(`${nm}\t${(0.2 + 0.1 * Math.sin(nm / 30)).toFixed(4)}`);
+    const data = new DataTransfer();
+    data.setData('text/plain', rows.join('\n'));
+    window.dispatchEvent(new ClipboardEvent('paste', { clipboardData: data }));
+  });
+  await page.waitForFunction(() => window.ddlens.state.samples.length === 2);
+  assert.deepEqual((await counts(page))[1], '61 points');
+  await page.locator('#file-input').setInputFiles([fixture('two-bands-nm.csv'), fixture('two-bands-affn.jdx')]);
+  await page.waitForFunction(() => window.ddlens.state.samples.length === 4);
+  const readyMs = await page.evaluate(() => Number(document.body.dataset.readyMs));
+  console.log(`# single file from file://: interactive after ${readyMs} ms (navigation start to ready)`);
+  assert.deepEqual(log.errors, []);
+  await context.close();
+});
