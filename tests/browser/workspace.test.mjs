@@ -185,3 +185,21 @@ test('pasted spreadsheet columns become a sample; the open button takes several 
   assert.deepEqual(log.errors, []);
   await context.close();
 });
+
+test('concentration and path length from the import panel give ε and log ε', async () => {
+  const { context, page, log } = await openPage(browser, site.url);
+  const a0 = await page.evaluate(() => window.ddlens.state.samples[0].values[300]);
+  await page.locator('#ov-conc').fill('0.004');
+  await page.locator('#ov-path').fill('0.5');
+  await page.locator('#reimport').click();
+  await page.waitForFunction(() => window.ddlens.state.samples[0].quantity === 'molar_absorptivity');
+  const eps = await page.evaluate(() => window.ddlens.state.samples[0].values[300]);
+  assert.ok(Math.abs(eps - a0 / (0.004 * 0.5)) < 1e-9 * eps, `ε ${eps} from A ${a0}`); // Beer–Lambert A = ε c l
+  assert.equal(await page.evaluate(() => window.ddlens.state.samples.length), 1, 're-reading replaces the sample');
+  await page.locator('#y-mode').selectOption('logeps');
+  const y = await page.evaluate(() => window.ddlens.state.frame.y_range);
+  assert.ok(y[1] > 1.5 && y[1] < 3, `log ε axis ${y}`);
+  await page.locator('#spectrum-canvas').screenshot({ path: `${OUTPUT}/log-epsilon.png` });
+  assert.deepEqual(log.errors, []);
+  await context.close();
+});
