@@ -67,7 +67,7 @@ const ddlens = (() => {
       /** Stops a running job at once; the caller starts a fresh worker from the cached module. */
       terminate() {
         w.terminate();
-        for (const job of pending.values()) job.reject(new Error('cancelled'));
+        for (const job of pending.values()) job.reject(Object.assign(new Error('cancelled'), { cancelled: true }));
         pending.clear();
       },
     };
@@ -126,12 +126,33 @@ const ddlens = (() => {
     };
   }
 
+  // ---------- long jobs ----------
+  // One job at a time runs in the worker with a progress line and a Cancel
+  // button; cancelling terminates the worker and starts a fresh one from the
+  // cached WebAssembly.Module (a compile is not repeated).
+  let cancelCurrent = null;
+  async function runJob(label, type, payload) {
+    $('busy-label').textContent = label;
+    $('busy-progress').removeAttribute('value');
+    $('busy').hidden = false;
+    cancelCurrent = () => {
+      worker.terminate(); // rejects the running job with a `cancelled` error
+      worker = startWorker(wasmModule);
+    };
+    try {
+      return await worker.run(type, payload, (p) => { $('busy-progress').value = p; });
+    } finally {
+      cancelCurrent = null;
+      $('busy').hidden = true;
+    }
+  }
+
   /** Imports one file's bytes in the worker; returns the report or throws an Error naming the file. */
   async function importBytes(bytes, name, options) {
     try {
-      return await worker.run('import', { bytes, name, options });
+      return await runJob(`Reading ${name}…`, 'import', { bytes, name, options });
     } catch (e) {
-      throw new Error(`${name}: ${e.message || e}`);
+      throw Object.assign(new Error(e.cancelled ? `${name}: reading cancelled; nothing was added` : `${name}: ${e.message || e}`), { cancelled: e.cancelled });
     }
   }
 
@@ -168,7 +189,8 @@ const ddlens = (() => {
         const bytes = new Uint8Array(await file.arrayBuffer());
         addReport(await importBytes(bytes.slice(), file.name, options), file.name, options, bytes);
       } catch (e) {
-        say(String(e.message || e));
+        say(String(e.message || e), e.cancelled ? 'info' : 'warn');
+        if (e.cancelled) break;
       }
     }
   }
@@ -535,6 +557,7 @@ const ddlens = (() => {
     $('export-csv').addEventListener('click', exportCsv);
     $('reimport').addEventListener('click', reimport);
     $('reset-view').addEventListener('click', resetView);
+    $('busy-cancel').addEventListener('click', () => cancelCurrent && cancelCurrent());
     $('clean-target').addEventListener('change', showCleaning);
     $('clean-apply').addEventListener('click', () => applyCleaning());
     $('clean-clear').addEventListener('click', () => applyCleaning(true));

@@ -203,3 +203,19 @@ test('concentration and path length from the import panel give ε and log ε', a
   assert.deepEqual(log.errors, []);
   await context.close();
 });
+
+test('a long import shows progress and can be cancelled; the fresh worker keeps working', async () => {
+  const { context, page, log } = await openPage(browser, site.url);
+  const rows = ['wavenumber (cm-1),Abs'];
+  for (let i = 0; i < 1_500_000; i++) rows.push(`${10000 + i * 0.01},${(i % 997) / 997}`);
+  const big = { name: 'big.csv', mimeType: 'text/csv', buffer: Buffer.from(rows.join('\n')) };
+  await page.locator('#file-input').setInputFiles(big);
+  await page.locator('#busy-cancel').click();
+  await page.waitForSelector('#busy', { state: 'hidden' });
+  assert.match(await page.locator('#messages p').first().innerText(), /big\.csv: reading cancelled/);
+  assert.equal(await page.evaluate(() => window.ddlens.state.samples.length), 1);
+  await page.locator('#file-input').setInputFiles(fixture('two-bands-nm.csv'));
+  await page.waitForFunction(() => window.ddlens.state.samples.length === 2);
+  assert.deepEqual(log.errors, []);
+  await context.close();
+});
