@@ -140,7 +140,11 @@ pub fn read(text: &str) -> Result<RawReport, ImportError> {
             continue;
         }
         let spectrum = if let Some(r) = block.get("XYDATA") {
-            xydata(&block, r)?
+            if r.value.to_uppercase().contains("XY..XY") {
+                groups(&block, r)?
+            } else {
+                xydata(&block, r)?
+            }
         } else if let Some(r) = block.get("XYPOINTS") {
             groups(&block, r)?
         } else if let Some(r) = block.get("PEAKTABLE") {
@@ -236,6 +240,8 @@ fn xydata(block: &Block, record: &Record) -> Result<RawSpectrum, ImportError> {
     let mut line_starts: Vec<(usize, f64, usize)> = Vec::new();
     let mut previous_end = LineEnd::Absolute;
     let mut checkpoint_warned = false;
+    // Ordinates kept after a relayed DIF because they did not match: maybe checks after all.
+    let mut uncertain: Vec<usize> = Vec::new();
     for (number, text) in &record.data {
         let decoded = decode_line(text, asdf).map_err(|m| ImportError::Malformed {
             line: Some(*number),
@@ -250,6 +256,8 @@ fn xydata(block: &Block, record: &Record) -> Result<RawSpectrum, ImportError> {
                 let matches = (check - last).abs() <= 1e-9 * last.abs().max(1.0);
                 if matches || previous_end == LineEnd::Dif {
                     y_line = &y_line[1..];
+                } else {
+                    uncertain.push(ys.len());
                 }
                 if !matches && previous_end == LineEnd::Dif && !checkpoint_warned {
                     s.warnings.push(Warning::new(
@@ -265,8 +273,30 @@ fn xydata(block: &Block, record: &Record) -> Result<RawSpectrum, ImportError> {
         lines.extend(std::iter::repeat_n(*number, y_line.len()));
         previous_end = decoded.end;
     }
-    let count = ys.len();
     let npoints = block.number("NPOINTS");
+    // readJDX's rule for relayed DIF: if treating every unmatched value after a
+    // DUP-of-DIF as a checkpoint gives exactly NPOINTS, that reading is the right one.
+    if let Some((n, line)) = npoints {
+        if !uncertain.is_empty() && (ys.len() - uncertain.len()) as f64 == n {
+            let mut drop = vec![false; ys.len()];
+            uncertain.iter().for_each(|&i| drop[i] = true);
+            let mut k = 0;
+            ys.retain(|_| {
+                k += 1;
+                !drop[k - 1]
+            });
+            let mut k = 0;
+            lines.retain(|_| {
+                k += 1;
+                !drop[k - 1]
+            });
+            s.warnings.push(Warning::new(
+                Some(line),
+                format!("{} values after a relayed DIF (DUP of DIF) were taken as checkpoints to match ##NPOINTS=", uncertain.len()),
+            ));
+        }
+    }
+    let count = ys.len();
     if let Some((n, line)) = npoints {
         if n != count as f64 {
             s.warnings.push(Warning::new(
