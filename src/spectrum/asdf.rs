@@ -28,6 +28,9 @@ pub struct DecodedLine {
     pub end: LineEnd,
 }
 
+/// Most values one line may expand to (DUP counts make tiny lines huge).
+pub const MAX_VALUES_PER_LINE: usize = 1_000_000;
+
 #[derive(Debug, Clone, Copy, PartialEq)]
 enum Token {
     Abs(f64),
@@ -180,6 +183,11 @@ pub fn decode_line(line: &str, asdf: bool) -> Result<DecodedLine, String> {
                 let Some(prev) = previous else {
                     return Err("a repeat (DUP) count has no value before it".into());
                 };
+                if values.len().saturating_add(n) > MAX_VALUES_PER_LINE {
+                    return Err(format!(
+                        "a repeat (DUP) count of {n} makes the line longer than {MAX_VALUES_PER_LINE} values"
+                    ));
+                }
                 for _ in 1..n {
                     let last = values.last().copied().unwrap_or(f64::NAN);
                     match prev {
@@ -249,5 +257,9 @@ mod tests {
         assert!(decode_line("450A1TT", true).is_err(), "DUP after DUP");
         assert!(decode_line("450A1#", true).is_err());
         assert!(decode_line("S", true).is_err());
+        assert!(
+            decode_line("1A1s999999999999", true).is_err(),
+            "absurd repeat count"
+        );
     }
 }

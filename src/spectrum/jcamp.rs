@@ -115,6 +115,9 @@ fn blocks(text: &str) -> Vec<Block> {
     done
 }
 
+/// Most points one XYDATA table may hold.
+const MAX_POINTS: usize = 50_000_000;
+
 const DATA_LABELS: [&str; 6] = [
     "XYDATA",
     "XYPOINTS",
@@ -267,6 +270,12 @@ fn xydata(block: &Block, record: &Record) -> Result<RawSpectrum, ImportError> {
                     checkpoint_warned = true;
                 }
             }
+        }
+        if ys.len() > MAX_POINTS {
+            return Err(ImportError::Unsupported {
+                line: Some(*number),
+                message: format!("the table has more than {MAX_POINTS} points"),
+            });
         }
         line_starts.push((ys.len(), x * xfactor, *number));
         ys.extend_from_slice(y_line);
