@@ -57,7 +57,7 @@ pub fn guess(x: &[f64], y: &[f64], n: Option<usize>) -> Vec<BandSpec> {
         let t = ((xi - a.0) / (b.0 - a.0)).clamp(0.0, 1.0);
         grid_y.push(a.1 + t * (b.1 - a.1));
     }
-    let half = (m / 40).max(3).min((m - 1) / 2);
+    let half = (m / 25).max(3).min((m - 1) / 2);
     let coeffs = savgol_second_derivative(half);
     let mut d2 = vec![0.0; m];
     for (i, slot) in d2.iter_mut().enumerate().take(m - half).skip(half) {
@@ -80,25 +80,32 @@ pub fn guess(x: &[f64], y: &[f64], n: Option<usize>) -> Vec<BandSpec> {
             .count()
             .max(1)
     });
-    let mut chosen: Vec<(f64, f64)> = minima
-        .iter()
-        .take(wanted)
-        .map(|&(i, _)| {
-            let mut l = i;
-            while l > half && d2[l] < 0.0 {
-                l -= 1;
-            }
-            let mut r = i;
-            while r + half + 1 < m && d2[r] < 0.0 {
-                r += 1;
-            }
-            let sigma = 0.5 * (r - l) as f64 * dx;
-            (
-                x0 + i as f64 * dx,
-                (2.354_820_045 * sigma).clamp(3.0 * dx, x1 - x0),
-            )
-        })
-        .collect();
+    // Deepest minima first; a minimum inside an already chosen band's
+    // zero-crossing interval is noise on that band and is skipped.
+    let mut taken: Vec<(usize, usize)> = Vec::new();
+    let mut chosen: Vec<(f64, f64)> = Vec::new();
+    for &(i, _) in &minima {
+        if chosen.len() >= wanted {
+            break;
+        }
+        if taken.iter().any(|&(l, r)| i >= l && i <= r) {
+            continue;
+        }
+        let mut l = i;
+        while l > half && d2[l] < 0.0 {
+            l -= 1;
+        }
+        let mut r = i;
+        while r + half + 1 < m && d2[r] < 0.0 {
+            r += 1;
+        }
+        taken.push((l, r));
+        let sigma = 0.5 * (r - l) as f64 * dx;
+        chosen.push((
+            x0 + i as f64 * dx,
+            (2.354_820_045 * sigma).clamp(3.0 * dx, x1 - x0),
+        ));
+    }
     // Too few minima: spread the missing bands evenly.
     let span = x1 - x0;
     while chosen.len() < wanted {

@@ -40,7 +40,7 @@ pub fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
     };
     let molar_absorptivity = args.flag("--epsilon");
     let max_iterations = match args.number("--max-iterations")? {
-        Some(v) if v >= 1.0 && v <= 1e6 => v as usize,
+        Some(v) if (1.0..=1e6).contains(&v) => v as usize,
         Some(_) => {
             return Err(CliError::Usage(
                 "--max-iterations must be between 1 and 1000000".into(),
