@@ -1,0 +1,46 @@
+#!/usr/bin/env bash
+# Installs what the build and the tests need, when it is missing:
+#   web     the wasm target and wasm-bindgen-cli at the version in Cargo.lock
+#   browser Debian's chromium + chromium-driver, and playwright-core from npm (never a browser download)
+#   python  numpy, scipy, sympy for the reference checks
+set -euo pipefail
+cd "$(dirname "$0")/.."
+say() { echo "ensure-tools: $*"; }
+
+web() {
+  if ! rustup target list --installed 2>/dev/null | grep -qx wasm32-unknown-unknown; then
+    say "adding the wasm32-unknown-unknown target"
+    rustup target add wasm32-unknown-unknown
+  fi
+  local want
+  want=$(awk '/^name = "wasm-bindgen"$/ { getline; gsub(/version = |"/, ""); print; exit }' Cargo.lock)
+  if [ "$(wasm-bindgen --version 2>/dev/null | awk '{print $2}')" != "$want" ]; then
+    say "installing wasm-bindgen-cli $want (takes a few minutes once)"
+    # Plain install: --locked fails against this registry (a locked dependency is missing).
+    cargo install wasm-bindgen-cli --version "$want" --quiet
+  fi
+}
+
+browser() {
+  if [ ! -x /usr/bin/chromium ]; then
+    say "installing Debian's chromium"
+    if [ "$(id -u)" = 0 ]; then SUDO=; else SUDO=sudo; fi
+    $SUDO apt-get update -qq
+    DEBIAN_FRONTEND=noninteractive $SUDO apt-get install -y -qq chromium chromium-driver >/dev/null
+  fi
+  if [ ! -d node_modules/playwright-core ]; then
+    say "installing playwright-core (no browser download)"
+    PLAYWRIGHT_SKIP_BROWSER_DOWNLOAD=1 npm install --no-audit --no-fund --silent
+  fi
+}
+
+python() {
+  if ! python3 -c 'import numpy, scipy, sympy' 2>/dev/null; then
+    say "installing numpy, scipy, sympy"
+    python3 -m pip install --quiet --disable-pip-version-check numpy scipy sympy
+  fi
+}
+
+for what in "${@:-web browser python}"; do
+  for w in $what; do "$w"; done
+done

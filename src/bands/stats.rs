@@ -1,0 +1,149 @@
+//! Fit statistics: covariance, correlation and information criteria.
+//!
+//! * Covariance C = s²·(JᵀJ)⁺, the pseudo-inverse taken from the SVD of J
+//!   itself (not of JᵀJ, which squares the condition number), discarding
+//!   singular values s ≤ ε·max(m, n)·s_max as SciPy `curve_fit` does.
+//!   s² = χ²/(N − P) (errors scaled by the reduced χ², lmfit
+//!   `scale_covar=True`, SciPy `absolute_sigma=False`) unless the weights
+//!   are absolute 1/σ², then s² = 1. This is also how NIST StRD certifies
+//!   its standard deviations (residual standard deviation² × (JᵀJ)⁻¹).
+//! * χ², χ²_ν = χ²/(N − P), R² = 1 − χ²/Σw(y − ȳ)², and the lmfit
+//!   definitions AIC = N ln(χ²/N) + 2P, BIC = N ln(χ²/N) + ln(N)·P.
+
+use nalgebra::DMatrix;
+
+/// The parameter covariance of a least-squares fit.
+#[derive(Debug, Clone)]
+pub struct Covariance {
+    /// n×n; rows and columns of excluded parameters are zero.
+    pub matrix: DMatrix<f64>,
+    /// Ratio of the largest to the smallest singular value kept.
+    pub condition: f64,
+    /// True when some singular values were discarded (redundant parameters).
+    pub rank_deficient: bool,
+}
+
+impl Covariance {
+    /// Standard error of parameter `j`, or None when it is not estimable.
+    pub fn sigma(&self, j: usize) -> Option<f64> {
+        let v = *self.matrix.get((j, j))?;
+        (v.is_finite() && v > 0.0).then(|| v.sqrt())
+    }
+
+    /// σ² of a derived quantity g with gradient ∇g: ∇gᵀ C ∇g.
+    pub fn propagate(&self, gradient: &[f64]) -> Option<f64> {
+        let n = self.matrix.nrows();
+        if gradient.len() != n {
+            return None;
+        }
+        let mut var = 0.0;
+        for i in 0..n {
+            for j in 0..n {
+                var += gradient[i] * self.matrix[(i, j)] * gradient[j];
+            }
+        }
+        (var.is_finite() && var >= 0.0).then(|| var.sqrt())
+    }
+
+    /// Correlation ρᵢⱼ = Cᵢⱼ/√(CᵢᵢCⱼⱼ); zero where a variance is missing.
+    pub fn correlation(&self) -> Vec<Vec<f64>> {
+        let n = self.matrix.nrows();
+        (0..n)
+            .map(|i| {
+                (0..n)
+                    .map(|j| {
+                        let d = self.matrix[(i, i)] * self.matrix[(j, j)];
+                        if d > 0.0 {
+                            self.matrix[(i, j)] / d.sqrt()
+                        } else {
+                            0.0
+                        }
+                    })
+                    .collect()
+            })
+            .collect()
+    }
+}
+
+/// C = s²·(JᵀJ)⁺ over the columns with `include[j]`; J column-major m×n.
+pub fn covariance(
+    jacobian: &[f64],
+    m: usize,
+    n: usize,
+    include: &[bool],
+    s2: f64,
+) -> Option<Covariance> {
+    let cols: Vec<usize> = (0..n)
+        .filter(|&j| include.get(j).copied().unwrap_or(false))
+        .collect();
+    let k = cols.len();
+    if k == 0 || jacobian.len() != m * n || m < k {
+        return None;
+    }
+    let j_sub = DMatrix::from_fn(m, k, |i, c| jacobian[cols[c] * m + i]);
+    // QR first: the SVD of the small R has the singular values of J.
+    let r = j_sub.qr().r();
+    let svd = r.svd(false, true);
+    let v_t = svd.v_t?;
+    let s_max = svd.singular_values.max();
+    if s_max.is_nan() || s_max <= 0.0 || !s_max.is_finite() {
+        return None;
+    }
+    let cutoff = f64::EPSILON * m.max(k) as f64 * s_max;
+    let mut inv = DMatrix::<f64>::zeros(k, k);
+    let mut s_min = s_max;
+    let mut rank_deficient = false;
+    for (idx, &s) in svd.singular_values.iter().enumerate() {
+        if s <= cutoff {
+            rank_deficient = true;
+            continue;
+        }
+        s_min = s_min.min(s);
+        let v = v_t.row(idx);
+        for a in 0..k {
+            for b in 0..k {
+                inv[(a, b)] += v[a] * v[b] / (s * s);
+            }
+        }
+    }
+    let mut matrix = DMatrix::zeros(n, n);
+    for (a, &ja) in cols.iter().enumerate() {
+        for (b, &jb) in cols.iter().enumerate() {
+            matrix[(ja, jb)] = s2 * inv[(a, b)];
+        }
+    }
+    Some(Covariance {
+        matrix,
+        condition: s_max / s_min,
+        rank_deficient,
+    })
+}
+
+/// Goodness-of-fit numbers of a weighted fit.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct GoodnessOfFit {
+    pub chi2: f64,
+    /// χ²/(N − P); None when N ≤ P.
+    pub reduced_chi2: Option<f64>,
+    /// None when the data are constant.
+    pub r2: Option<f64>,
+    /// None for an exact fit (χ² = 0), where ln χ² is undefined.
+    pub aic: Option<f64>,
+    pub bic: Option<f64>,
+}
+
+/// χ², reduced χ², R², AIC, BIC; `weighted_y_dev` = Σw(y − ȳ)².
+pub fn goodness(chi2: f64, points: usize, parameters: usize, weighted_y_dev: f64) -> GoodnessOfFit {
+    let n = points as f64;
+    let p = parameters as f64;
+    let reduced_chi2 = (points > parameters).then(|| chi2 / (n - p));
+    let r2 = (weighted_y_dev > 0.0).then(|| 1.0 - chi2 / weighted_y_dev);
+    let log_term = (chi2 > 0.0 && points > 0).then(|| n * (chi2 / n).ln());
+    GoodnessOfFit {
+        chi2,
+        reduced_chi2,
+        r2,
+        aic: log_term.map(|l| l + 2.0 * p),
+        bic: log_term.map(|l| l + n.ln() * p),
+    }
+}

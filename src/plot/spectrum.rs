@@ -1,0 +1,473 @@
+//! The spectrum figure: wavenumber (cm⁻¹) on the bottom axis, wavelength
+//! (nm) on a top axis with its own non-linear ticks, lines for spectra and
+//! fitted sums, translucent fills for band components, shaded spans for
+//! flagged regions and vertical markers for predicted transitions.
+
+use super::{palette, PlotError};
+use plotters::coord::Shift;
+use plotters::prelude::*;
+use plotters::style::text_anchor;
+use serde::{Deserialize, Serialize};
+
+/// One curve on the figure (x in cm⁻¹).
+#[derive(Debug, Clone, Default, Serialize, Deserialize)]
+pub struct Line {
+    pub x: Vec<f64>,
+    pub y: Vec<f64>,
+    /// `#rrggbb`.
+    pub colour: String,
+    /// Stroke width in CSS pixels.
+    #[serde(default = "one")]
+    pub width: f64,
+    /// Draw as a translucent fill down to zero instead of a line.
+    #[serde(default)]
+    pub fill: bool,
+    #[serde(default)]
+    pub dashed: bool,
+}
+
+fn one() -> f64 {
+    1.0
+}
+
+/// A vertical marker with a label (a predicted transition), optional shaded ± span.
+#[derive(Debug, Clone, Default, Serialize, Deserialize)]
+pub struct Marker {
+    pub x: f64,
+    #[serde(default)]
+    pub sigma: f64,
+    pub label: String,
+    #[serde(default)]
+    pub dashed: bool,
+}
+
+/// What to draw and how.
+#[derive(Debug, Clone, Default, Serialize, Deserialize)]
+pub struct SpectrumFigure {
+    pub lines: Vec<Line>,
+    /// Shaded x ranges (cm⁻¹), e.g. saturated regions.
+    #[serde(default)]
+    pub shaded: Vec<[f64; 2]>,
+    #[serde(default)]
+    pub markers: Vec<Marker>,
+    /// Visible x range (cm⁻¹); from the data when absent.
+    pub x_range: Option<[f64; 2]>,
+    pub y_range: Option<[f64; 2]>,
+    #[serde(default)]
+    pub y_label: String,
+    /// Wavelength (nm) on the bottom axis instead of wavenumber.
+    #[serde(default)]
+    pub nm_bottom: bool,
+}
+
+/// The pixel ↔ data mapping of a drawn figure, for mouse read-outs.
+#[derive(Debug, Clone, Copy, Serialize, Deserialize)]
+pub struct Frame {
+    /// Plot area in backend pixels: left, top, right, bottom.
+    pub area: [f64; 4],
+    pub x_range: [f64; 2],
+    pub y_range: [f64; 2],
+    pub nm_bottom: bool,
+}
+
+impl SpectrumFigure {
+    fn data_x_range(&self) -> [f64; 2] {
+        let mut lo = f64::INFINITY;
+        let mut hi = f64::NEG_INFINITY;
+        for v in self
+            .lines
+            .iter()
+            .flat_map(|l| l.x.iter())
+            .filter(|v| v.is_finite())
+        {
+            lo = lo.min(*v);
+            hi = hi.max(*v);
+        }
+        sane_range(lo, hi, [5000.0, 35000.0])
+    }
+
+    fn data_y_range(&self, x: [f64; 2]) -> [f64; 2] {
+        let mut lo = f64::INFINITY;
+        let mut hi = f64::NEG_INFINITY;
+        for l in &self.lines {
+            for (xv, yv) in l.x.iter().zip(&l.y) {
+                if *xv >= x[0] && *xv <= x[1] && yv.is_finite() {
+                    lo = lo.min(*yv);
+                    hi = hi.max(*yv);
+                }
+            }
+        }
+        let [lo, hi] = sane_range(lo.min(0.0), hi, [0.0, 1.0]);
+        [lo, hi + 0.08 * (hi - lo)]
+    }
+}
+
+/// A finite, non-empty range, or the fallback.
+fn sane_range(lo: f64, hi: f64, fallback: [f64; 2]) -> [f64; 2] {
+    if !(lo.is_finite() && hi.is_finite()) {
+        fallback
+    } else if hi - lo <= f64::EPSILON * hi.abs().max(1.0) {
+        [lo - 0.5 * lo.abs().max(1.0), hi + 0.5 * hi.abs().max(1.0)]
+    } else {
+        [lo, hi]
+    }
+}
+
+/// "Nice" tick values covering [lo, hi]: steps of 1, 2 or 5 × 10ⁿ.
+pub fn nice_ticks(lo: f64, hi: f64, target: usize) -> Vec<f64> {
+    if !(lo.is_finite() && hi.is_finite()) || hi <= lo || target == 0 {
+        return Vec::new();
+    }
+    let raw = (hi - lo) / target as f64;
+    let mag = 10f64.powf(raw.log10().floor());
+    let step = [1.0, 2.0, 5.0, 10.0]
+        .iter()
+        .map(|m| m * mag)
+        .find(|s| *s >= raw)
+        .unwrap_or(10.0 * mag);
+    let first = (lo / step).ceil() as i64;
+    let last = (hi / step).floor() as i64;
+    (first..=last).map(|i| i as f64 * step).collect()
+}
+
+/// Draws the figure on `root` and returns the pixel mapping of its plot area.
+pub fn draw<DB: DrawingBackend>(
+    root: &DrawingArea<DB, Shift>,
+    fig: &SpectrumFigure,
+    scale: f64,
+) -> Result<Frame, PlotError> {
+    let s = |v: f64| (v * scale).round().max(1.0) as u32;
+    root.fill(&WHITE)?;
+    let x = fig
+        .x_range
+        .map(|r| sane_range(r[0].min(r[1]), r[0].max(r[1]), fig.data_x_range()))
+        .unwrap_or_else(|| fig.data_x_range());
+    let y = fig
+        .y_range
+        .map(|r| sane_range(r[0].min(r[1]), r[0].max(r[1]), [0.0, 1.0]))
+        .unwrap_or_else(|| fig.data_y_range(x));
+    let font = |size: f64| {
+        ("sans-serif", size * scale)
+            .into_font()
+            .color(&palette::INK)
+    };
+
+    // The bottom axis shows wavenumber (energy grows to the right) or wavelength.
+    let (bx, to_bottom): ([f64; 2], fn(f64) -> f64) = if fig.nm_bottom {
+        ([1e7 / x[1], 1e7 / x[0]], |v| 1e7 / v)
+    } else {
+        (x, |v| v)
+    };
+
+    let mut chart = ChartBuilder::on(root)
+        .margin(s(10.0))
+        .margin_right(s(18.0))
+        .margin_top(s(44.0)) // room for the top axis, drawn by hand below
+        .x_label_area_size(s(40.0))
+        .y_label_area_size(s(62.0))
+        .build_cartesian_2d(bx[0]..bx[1], y[0]..y[1])?;
+    let bottom_desc = if fig.nm_bottom {
+        "wavelength / nm"
+    } else {
+        "wavenumber / cm⁻¹"
+    };
+    chart
+        .configure_mesh()
+        .light_line_style(palette::GRID.mix(0.0))
+        .bold_line_style(palette::GRID)
+        .axis_style(palette::INK.stroke_width(s(1.0)))
+        .label_style(font(12.0))
+        .axis_desc_style(font(13.0))
+        .x_desc(bottom_desc)
+        .y_desc(fig.y_label.as_str())
+        .x_labels(8)
+        .y_labels(6)
+        .x_label_formatter(&|v| format!("{v:.0}"))
+        .y_label_formatter(&|v| trim_number(*v))
+        .draw()?;
+
+    let clip = |v: f64| v.clamp(y[0], y[1]);
+    for span in &fig.shaded {
+        let (a, b) = (to_bottom(span[0]), to_bottom(span[1]));
+        let (a, b) = (a.min(b).max(bx[0]), a.max(b).min(bx[1]));
+        if a >= b {
+            continue;
+        }
+        chart.draw_series(std::iter::once(Rectangle::new(
+            [(a, y[0]), (b, y[1])],
+            RGBColor(120, 120, 120).mix(0.18).filled(),
+        )))?;
+    }
+    for m in &fig.markers {
+        if m.sigma > 0.0 {
+            let (a, b) = (to_bottom(m.x - m.sigma), to_bottom(m.x + m.sigma));
+            chart.draw_series(std::iter::once(Rectangle::new(
+                [(a.min(b), y[0]), (a.max(b), y[1])],
+                palette::SERIES[3].mix(0.15).filled(),
+            )))?;
+        }
+    }
+    let (px_lo, _) = chart.backend_coord(&(bx[0], y[1]));
+    let (px_hi, _) = chart.backend_coord(&(bx[1], y[1]));
+    let columns = (px_hi - px_lo).unsigned_abs().max(1) as usize;
+    for line in &fig.lines {
+        let colour = palette::parse_hex(&line.colour);
+        let visible: Vec<(f64, f64)> = line
+            .x
+            .iter()
+            .zip(&line.y)
+            .filter(|(a, b)| a.is_finite() && b.is_finite())
+            .map(|(a, b)| (to_bottom(*a), *b))
+            .collect();
+        let visible = clip_to_x_range(visible, bx);
+        let pts = decimate(&visible, bx, columns)
+            .into_iter()
+            .map(|(a, b)| (a, clip(b)));
+        if line.fill {
+            chart.draw_series(AreaSeries::new(pts, clip(0.0), colour.mix(0.25).filled()))?;
+        } else if line.dashed {
+            let v: Vec<_> = pts.collect();
+            chart.draw_series(DashedLineSeries::new(
+                v,
+                s(6.0),
+                s(4.0),
+                colour.stroke_width(s(line.width)),
+            ))?;
+        } else {
+            chart.draw_series(LineSeries::new(pts, colour.stroke_width(s(line.width))))?;
+        }
+    }
+    for m in &fig.markers {
+        let xm = to_bottom(m.x);
+        if xm < bx[0] || xm > bx[1] {
+            continue;
+        }
+        let style = palette::SERIES[3].stroke_width(s(1.5));
+        if m.dashed {
+            chart.draw_series(DashedLineSeries::new(
+                vec![(xm, y[0]), (xm, y[1])],
+                s(5.0),
+                s(4.0),
+                style,
+            ))?;
+        } else {
+            chart.draw_series(LineSeries::new(vec![(xm, y[0]), (xm, y[1])], style))?;
+        }
+        let (px, py) = chart.backend_coord(&(xm, y[1]));
+        root.draw(&Text::new(
+            m.label.clone(),
+            (px + s(3.0) as i32, py + s(4.0) as i32),
+            font(11.0).transform(FontTransform::Rotate90),
+        ))?;
+    }
+
+    // The top axis: the other unit, with its own (non-linear) ticks.
+    let (left, top) = chart.backend_coord(&(bx[0], y[1]));
+    let (right, bottom) = chart.backend_coord(&(bx[1], y[0]));
+    let (tlo, thi) = (1e7 / bx[1], 1e7 / bx[0]);
+    let top_desc = if fig.nm_bottom {
+        "wavenumber / cm⁻¹"
+    } else {
+        "wavelength / nm"
+    };
+    let ink = palette::INK.stroke_width(s(1.0));
+    root.draw(&PathElement::new(vec![(left, top), (right, top)], ink))?;
+    for t in nice_ticks(tlo, thi, 7) {
+        let pos = 1e7 / t;
+        let (px, _) = chart.backend_coord(&(pos, y[1]));
+        root.draw(&PathElement::new(
+            vec![(px, top), (px, top - s(5.0) as i32)],
+            ink,
+        ))?;
+        let style = font(12.0).pos(text_anchor::Pos::new(
+            text_anchor::HPos::Center,
+            text_anchor::VPos::Bottom,
+        ));
+        root.draw(&Text::new(
+            format!("{t:.0}"),
+            (px, top - s(7.0) as i32),
+            style,
+        ))?;
+    }
+    let desc = font(13.0).pos(text_anchor::Pos::new(
+        text_anchor::HPos::Right,
+        text_anchor::VPos::Bottom,
+    ));
+    root.draw(&Text::new(top_desc, (right, top - s(21.0) as i32), desc))?;
+    root.present()?;
+    Ok(Frame {
+        area: [left as f64, top as f64, right as f64, bottom as f64],
+        x_range: bx,
+        y_range: y,
+        nm_bottom: fig.nm_bottom,
+    })
+}
+
+/// The part of a polyline inside `[range[0], range[1]]` in x, sorted by x,
+/// with the segments that cross an edge cut at the edge (interpolated), so
+/// that nothing is drawn outside the plot area when zoomed in.
+pub fn clip_to_x_range(mut pts: Vec<(f64, f64)>, range: [f64; 2]) -> Vec<(f64, f64)> {
+    pts.sort_by(|a, b| a.0.total_cmp(&b.0));
+    let [lo, hi] = range;
+    let at = |a: (f64, f64), b: (f64, f64), x: f64| {
+        let t = if b.0 == a.0 {
+            0.0
+        } else {
+            (x - a.0) / (b.0 - a.0)
+        };
+        (x, a.1 + t * (b.1 - a.1))
+    };
+    let mut out = Vec::with_capacity(pts.len());
+    for (i, p) in pts.iter().enumerate() {
+        let inside = p.0 >= lo && p.0 <= hi;
+        if let Some(prev) = i.checked_sub(1).and_then(|j| pts.get(j)) {
+            if prev.0 < lo && p.0 > lo {
+                out.push(at(*prev, *p, lo));
+            }
+            if prev.0 < hi && p.0 > hi {
+                out.push(at(*prev, *p, hi));
+            }
+        }
+        if inside {
+            out.push(*p);
+        }
+    }
+    out
+}
+
+/// Min/max decimation per pixel column: for a polyline sorted by x with many
+/// more points than `columns`, keeps in each column the first, lowest,
+/// highest and last point (in x order), so the drawn envelope is exactly the
+/// one of the full data while at most 4 points per column cross to the backend.
+pub fn decimate(pts: &[(f64, f64)], range: [f64; 2], columns: usize) -> Vec<(f64, f64)> {
+    let span = range[1] - range[0];
+    if pts.len() <= 4 * columns.max(1) || span.is_nan() || span <= 0.0 {
+        return pts.to_vec();
+    }
+    let column = |x: f64| {
+        (((x - range[0]) / span * columns as f64).floor()).clamp(0.0, columns as f64) as usize
+    };
+    let mut out = Vec::with_capacity(4 * columns + 4);
+    let mut start = 0;
+    while start < pts.len() {
+        let c = pts.get(start).map(|p| column(p.0)).unwrap_or(0);
+        let mut end = start;
+        while end < pts.len() && pts.get(end).map(|p| column(p.0)) == Some(c) {
+            end += 1;
+        }
+        let group = pts.get(start..end).unwrap_or(&[]);
+        let (mut lo, mut hi) = (0, 0);
+        for (k, p) in group.iter().enumerate() {
+            if group.get(lo).is_some_and(|q| p.1 < q.1) {
+                lo = k;
+            }
+            if group.get(hi).is_some_and(|q| p.1 > q.1) {
+                hi = k;
+            }
+        }
+        let mut keep = [0, lo.min(hi), lo.max(hi), group.len().saturating_sub(1)];
+        keep.sort_unstable();
+        let mut last = usize::MAX;
+        for k in keep {
+            if k != last {
+                if let Some(p) = group.get(k) {
+                    out.push(*p);
+                }
+                last = k;
+            }
+        }
+        start = end.max(start + 1);
+    }
+    out
+}
+
+/// A compact axis number: no trailing zeros.
+fn trim_number(v: f64) -> String {
+    let t = format!("{v:.3}");
+    let t = t.trim_end_matches('0').trim_end_matches('.');
+    if t == "-0" {
+        "0".into()
+    } else {
+        t.into()
+    }
+}
+
+/// The figure as an SVG document (width × height CSS pixels).
+pub fn to_svg(fig: &SpectrumFigure, width: u32, height: u32) -> Result<String, PlotError> {
+    let mut out = String::new();
+    {
+        let root =
+            SVGBackend::with_string(&mut out, (width.clamp(100, 8000), height.clamp(100, 8000)))
+                .into_drawing_area();
+        draw(&root, fig, 1.0)?;
+    }
+    Ok(out)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn nice_ticks_are_round_and_cover_the_range() {
+        assert_eq!(
+            nice_ticks(0.0, 10.0, 5),
+            vec![0.0, 2.0, 4.0, 6.0, 8.0, 10.0]
+        );
+        let t = nice_ticks(285.7, 1000.0, 7);
+        assert_eq!(t.first(), Some(&400.0)); // step 200 for a 714 nm span
+        assert_eq!(t.last(), Some(&1000.0));
+        assert!(nice_ticks(1.0, 1.0, 5).is_empty());
+        assert!(nice_ticks(f64::NAN, 1.0, 5).is_empty());
+    }
+
+    #[test]
+    fn decimation_keeps_the_envelope_and_bounds_the_point_count() {
+        // 10 000 points of a fast oscillation over 100 columns: every column's
+        // extreme values survive and at most 4 points per column are kept.
+        let pts: Vec<(f64, f64)> = (0..10_000)
+            .map(|i| (i as f64, ((i * 7919) % 1000) as f64))
+            .collect();
+        let out = decimate(&pts, [0.0, 10_000.0], 100);
+        assert!(out.len() <= 400, "{} points kept", out.len());
+        for c in 0..100 {
+            let col = |p: &&(f64, f64)| (p.0 / 100.0).floor() as usize == c;
+            let max_in = pts.iter().filter(col).map(|p| p.1).fold(f64::MIN, f64::max);
+            let max_out = out.iter().filter(col).map(|p| p.1).fold(f64::MIN, f64::max);
+            let min_in = pts.iter().filter(col).map(|p| p.1).fold(f64::MAX, f64::min);
+            let min_out = out.iter().filter(col).map(|p| p.1).fold(f64::MAX, f64::min);
+            assert_eq!((max_in, min_in), (max_out, min_out), "column {c}");
+        }
+        // Few points pass through untouched.
+        assert_eq!(decimate(&pts[..50], [0.0, 50.0], 100), pts[..50].to_vec());
+    }
+
+    #[test]
+    fn clipping_cuts_segments_at_the_edges() {
+        let pts = vec![(0.0, 0.0), (10.0, 10.0), (20.0, 0.0)];
+        let out = clip_to_x_range(pts, [5.0, 15.0]);
+        assert_eq!(out, vec![(5.0, 5.0), (10.0, 10.0), (15.0, 5.0)]);
+        assert!(clip_to_x_range(vec![(1.0, 1.0)], [5.0, 6.0]).is_empty());
+    }
+
+    #[test]
+    fn svg_has_both_axes_and_survives_empty_or_bad_data() {
+        let fig = SpectrumFigure {
+            lines: vec![Line {
+                x: vec![10000.0, 20000.0, 30000.0],
+                y: vec![0.1, f64::NAN, 0.3],
+                colour: "#0072b2".into(),
+                width: 1.0,
+                ..Default::default()
+            }],
+            ..Default::default()
+        };
+        let svg = to_svg(&fig, 600, 300).unwrap();
+        assert!(svg.contains("wavenumber / cm⁻¹") && svg.contains("wavelength / nm"));
+        assert!(
+            svg.contains("\n500\n"),
+            "500 nm = 20000 cm⁻¹ should be a top tick"
+        );
+        assert!(to_svg(&SpectrumFigure::default(), 300, 200).is_ok());
+    }
+}

@@ -1,0 +1,148 @@
+//! Savitzky–Golay smoothing and derivatives.
+//!
+//! A. Savitzky and M. J. E. Golay, "Smoothing and differentiation of data by
+//! simplified least squares procedures", Anal. Chem. 36 (1964) 1627. A polynomial
+//! of degree `order` is fitted by least squares to each window of `window` points;
+//! its `deriv`-th derivative at a position is a fixed linear combination of the
+//! window's values. The weights come from the pseudo-inverse of the window's
+//! Vandermonde matrix, built on positions scaled to [−1, 1] to keep it well
+//! conditioned. Edges use the polynomial fitted to the first/last full window
+//! (the same as SciPy's `savgol_filter(mode="interp")`). Derivatives are per
+//! point index: divide by spacing^deriv for physical units.
+
+use super::PreprocessError;
+use nalgebra::DMatrix;
+
+/// Weights giving the `deriv`-th derivative at the window centre, in correlation
+/// order (`Σ c[j]·y[i + j − half]`); equal to SciPy `savgol_coeffs(…, use="dot")`.
+pub fn savgol_coeffs(
+    window: usize,
+    order: usize,
+    deriv: usize,
+) -> Result<Vec<f64>, PreprocessError> {
+    let half = check(window, order, deriv)?;
+    weights_at(window, order, deriv, half)
+}
+
+/// Smooths (`deriv` = 0) or differentiates `y` with a Savitzky–Golay filter.
+pub fn savgol(
+    y: &[f64],
+    window: usize,
+    order: usize,
+    deriv: usize,
+) -> Result<Vec<f64>, PreprocessError> {
+    let half = check(window, order, deriv)?;
+    if y.len() < window {
+        return Err(PreprocessError::TooFewPoints {
+            needed: window,
+            found: y.len(),
+        });
+    }
+    let centre = weights_at(window, order, deriv, half)?;
+    let dot = |w: &[f64], start: usize| -> f64 {
+        w.iter()
+            .zip(&y[start..start + window])
+            .map(|(a, b)| a * b)
+            .sum()
+    };
+    let mut out = vec![0.0; y.len()];
+    for (i, o) in out.iter_mut().enumerate().take(y.len() - half).skip(half) {
+        *o = dot(&centre, i - half);
+    }
+    let last_start = y.len() - window;
+    for p in 0..half {
+        let w = weights_at(window, order, deriv, p)?;
+        out[p] = dot(&w, 0);
+        let w_end = weights_at(window, order, deriv, window - 1 - p)?;
+        out[y.len() - 1 - p] = dot(&w_end, last_start);
+    }
+    Ok(out)
+}
+
+fn check(window: usize, order: usize, deriv: usize) -> Result<usize, PreprocessError> {
+    if window == 0 || window % 2 == 0 {
+        return Err(PreprocessError::BadParameter(format!(
+            "the Savitzky–Golay window must be an odd number of points, found {window}"
+        )));
+    }
+    if order >= window {
+        return Err(PreprocessError::BadParameter(format!(
+            "the polynomial order ({order}) must be smaller than the window ({window} points)"
+        )));
+    }
+    if deriv > order {
+        return Err(PreprocessError::BadParameter(format!(
+            "a derivative of order {deriv} of a degree-{order} polynomial is zero; choose deriv ≤ order"
+        )));
+    }
+    Ok(window / 2)
+}
+
+/// Weights for the derivative at window position `pos` (0 … window−1).
+fn weights_at(
+    window: usize,
+    order: usize,
+    deriv: usize,
+    pos: usize,
+) -> Result<Vec<f64>, PreprocessError> {
+    let half = window / 2;
+    let scale = if half == 0 { 1.0 } else { half as f64 };
+    let t = |j: usize| (j as f64 - half as f64) / scale;
+    let vandermonde = DMatrix::from_fn(window, order + 1, |j, k| t(j).powi(k as i32));
+    let pinv = vandermonde
+        .svd(true, true)
+        .pseudo_inverse(1e-13)
+        .map_err(|_| PreprocessError::Singular)?;
+    // d^deriv/dt^deriv of t^k at t0, then chain rule dt/dindex = 1/scale.
+    let t0 = t(pos);
+    let mut factor = vec![0.0; order + 1];
+    for (k, f) in factor.iter_mut().enumerate().skip(deriv) {
+        let falling: f64 = ((k - deriv + 1)..=k).map(|m| m as f64).product();
+        *f = falling * t0.powi((k - deriv) as i32) / scale.powi(deriv as i32);
+    }
+    Ok((0..window)
+        .map(|j| (0..=order).map(|k| factor[k] * pinv[(k, j)]).sum())
+        .collect())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn classic_five_point_quadratic_smoother() {
+        // Savitzky & Golay (1964), Table I: 5-point quadratic/cubic smoothing weights (−3, 12, 17, 12, −3)/35.
+        let c = savgol_coeffs(5, 2, 0).unwrap();
+        let table = [-3.0, 12.0, 17.0, 12.0, -3.0];
+        for (a, b) in c.iter().zip(table) {
+            assert!((a - b / 35.0).abs() < 1e-12);
+        }
+        // Savitzky & Golay (1964), first derivative, 5-point quadratic: (−2, −1, 0, 1, 2)/10.
+        let d = savgol_coeffs(5, 2, 1).unwrap();
+        for (a, b) in d.iter().zip([-2.0, -1.0, 0.0, 1.0, 2.0]) {
+            assert!((a - b / 10.0).abs() < 1e-12);
+        }
+    }
+
+    #[test]
+    fn polynomials_up_to_the_order_pass_unchanged_including_edges() {
+        // A least-squares polynomial fit reproduces any polynomial of degree ≤ order exactly.
+        let y: Vec<f64> = (0..30)
+            .map(|i| {
+                let x = i as f64;
+                0.5 - 0.2 * x + 0.03 * x * x - 0.001 * x * x * x
+            })
+            .collect();
+        let smooth = savgol(&y, 9, 3, 0).unwrap();
+        let slope = savgol(&y, 9, 3, 1).unwrap();
+        for i in 0..30 {
+            let x = i as f64;
+            assert!((smooth[i] - y[i]).abs() < 1e-10, "{i}");
+            let exact = -0.2 + 0.06 * x - 0.003 * x * x;
+            assert!((slope[i] - exact).abs() < 1e-10, "{i}");
+        }
+        assert!(savgol(&y, 8, 3, 0).is_err());
+        assert!(savgol(&y[..5], 9, 3, 0).is_err());
+        assert!(savgol_coeffs(5, 2, 3).is_err());
+    }
+}
