@@ -234,3 +234,17 @@ fn empty_and_textless_files_are_refused() {
     let err = import(project, "p.json", &ImportOptions::default()).unwrap_err();
     assert!(err.to_string().contains("newer ddlens"));
 }
+
+#[test]
+fn percent_label_on_a_zero_to_one_scale_is_read_as_transmittance() {
+    let s = &import(
+        b"nm,%T\n500,0.1\n600,0.01\n",
+        "t.csv",
+        &ImportOptions::default(),
+    )
+    .unwrap()
+    .spectra[0];
+    // −log10(0.01) = 2, −log10(0.1) = 1 (IUPAC absorbance).
+    assert!((s.values[0] - 2.0).abs() < 1e-12 && (s.values[1] - 1.0).abs() < 1e-12);
+    assert!(s.warnings.iter().any(|w| w.message.contains("0–1 scale")));
+}

@@ -10,7 +10,6 @@
 //! * χ², χ²_ν = χ²/(N − P), R² = 1 − χ²/Σw(y − ȳ)², and the lmfit
 //!   definitions AIC = N ln(χ²/N) + 2P, BIC = N ln(χ²/N) + ln(N)·P.
 
-use super::lm::dot;
 use nalgebra::DMatrix;
 
 /// The parameter covariance of a least-squares fit.
@@ -147,9 +146,4 @@ pub fn goodness(chi2: f64, points: usize, parameters: usize, weighted_y_dev: f64
         aic: log_term.map(|l| l + 2.0 * p),
         bic: log_term.map(|l| l + n.ln() * p),
     }
-}
-
-/// Σ rᵢ² (a convenience for callers holding residuals).
-pub fn sum_of_squares(r: &[f64]) -> f64 {
-    dot(r, r)
 }

@@ -223,6 +223,14 @@ fn y_label(
             ));
             YLabel::Quantity(Quantity::PercentTransmittance)
         }
+        Some(YLabel::Quantity(Quantity::PercentTransmittance)) if max <= 1.0 => {
+            // Some JCAMP writers label a 0–1 transmittance as %T (research notes, SBO.jdx).
+            warnings.push(Warning::new(
+                None,
+                format!("the file says %T but values stay at or below {max}; read as transmittance on a 0–1 scale"),
+            ));
+            YLabel::Quantity(Quantity::Transmittance)
+        }
         Some(found) => found,
         None if max <= 10.0 => {
             warnings.push(Warning::new(

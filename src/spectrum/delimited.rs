@@ -107,16 +107,20 @@ fn classify(line: &str, delimiter: Delimiter, decimal_comma: bool) -> Kind {
     }
 }
 
-/// Lines looked at when sniffing the delimiter.
+/// Number-like lines looked at when sniffing the delimiter.
 const SNIFF_LINES: usize = 400;
 
 /// Picks the delimiter and decimal mark that turn the most sample lines into
 /// rows of at least two numbers; ties go to the earlier candidate.
 fn sniff(lines: &[(usize, &str)]) -> (Delimiter, bool) {
+    // Lines that start like a number, so a long header cannot hide the data.
     let sample: Vec<&str> = lines
         .iter()
         .map(|(_, l)| *l)
-        .filter(|l| !l.trim().is_empty())
+        .filter(|l| {
+            l.trim_start_matches([' ', '\t', '"'])
+                .starts_with(|c: char| c.is_ascii_digit() || matches!(c, '-' | '+' | '.'))
+        })
         .take(SNIFF_LINES)
         .collect();
     let candidates = [

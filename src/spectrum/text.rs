@@ -52,8 +52,14 @@ fn utf16(bytes: &[u8], word: fn([u8; 2]) -> u16, warnings: &mut Vec<Warning>) ->
 }
 
 /// Splits text into lines, dropping `\r` before `\n`; yields (1-based number, line).
+/// Text with `\r` but no `\n` (classic Mac OS line ends) is split at `\r`.
 pub fn numbered_lines(text: &str) -> impl Iterator<Item = (usize, &str)> {
-    text.split('\n')
+    let separator = if !text.contains('\n') && text.contains('\r') {
+        '\r'
+    } else {
+        '\n'
+    };
+    text.split(separator)
         .enumerate()
         .map(|(i, l)| (i + 1, l.strip_suffix('\r').unwrap_or(l)))
 }

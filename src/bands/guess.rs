@@ -1,0 +1,216 @@
+//! Starting values for a band fit from the data alone.
+//!
+//! 1. The spectrum is interpolated onto a uniform wavenumber grid (the
+//!    Savitzky–Golay filter assumes even spacing; SciPy `savgol_filter` docs).
+//! 2. Its second derivative is taken with a quadratic Savitzky–Golay filter
+//!    (Savitzky & Golay 1964; coefficients from the least-squares fit of a
+//!    polynomial, computed here). Band centres are its deepest minima.
+//! 3. For a Gaussian d²G/dν̃² ∝ (u² − 1)G, u = (ν̃ − ν̃₀)/σ, so the zero
+//!    crossings either side of a minimum are ±σ: FWHM = 2√(2 ln 2)·σ (CALC).
+//! 4. Heights come from non-negative least squares (Lawson & Hanson 1974)
+//!    with centres and widths fixed and a free constant offset.
+//!
+//! A private, small SG implementation; TODO(lead): dedupe with
+//! `crate::spectrum::preprocess::savgol` once merged.
+
+use super::{BandSpec, Shape};
+use nalgebra::{DMatrix, DVector};
+
+/// Savitzky–Golay second-derivative weights (unit spacing) for a window of
+/// 2·half+1 points and a quadratic.
+fn savgol_second_derivative(half: usize) -> Vec<f64> {
+    let k = 2 * half + 1;
+    let v = DMatrix::from_fn(k, 3, |i, j| (i as f64 - half as f64).powi(j as i32));
+    let vtv = v.transpose() * &v;
+    let Some(inv) = vtv.try_inverse() else {
+        return vec![0.0; k];
+    };
+    let pinv = inv * v.transpose();
+    (0..k).map(|i| 2.0 * pinv[(2, i)]).collect()
+}
+
+/// Starting bands (Gaussian) for `n` bands, or as many as the data suggest.
+/// Returns an empty list when the data are too short or not finite.
+pub fn guess(x: &[f64], y: &[f64], n: Option<usize>) -> Vec<BandSpec> {
+    let mut pts: Vec<(f64, f64)> = x
+        .iter()
+        .copied()
+        .zip(y.iter().copied())
+        .filter(|(a, b)| a.is_finite() && b.is_finite())
+        .collect();
+    pts.sort_by(|a, b| a.0.total_cmp(&b.0));
+    pts.dedup_by(|a, b| a.0 == b.0);
+    if pts.len() < 7 || n == Some(0) {
+        return Vec::new();
+    }
+    let (x0, x1) = (pts[0].0, pts[pts.len() - 1].0);
+    let m = pts.len().min(2000);
+    let dx = (x1 - x0) / (m - 1) as f64;
+    let mut grid_y = Vec::with_capacity(m);
+    let mut seg = 0;
+    for i in 0..m {
+        let xi = x0 + i as f64 * dx;
+        while seg + 2 < pts.len() && pts[seg + 1].0 < xi {
+            seg += 1;
+        }
+        let (a, b) = (pts[seg], pts[seg + 1]);
+        let t = ((xi - a.0) / (b.0 - a.0)).clamp(0.0, 1.0);
+        grid_y.push(a.1 + t * (b.1 - a.1));
+    }
+    let half = (m / 25).max(3).min((m - 1) / 2);
+    let coeffs = savgol_second_derivative(half);
+    let mut d2 = vec![0.0; m];
+    for (i, slot) in d2.iter_mut().enumerate().take(m - half).skip(half) {
+        *slot = coeffs
+            .iter()
+            .enumerate()
+            .map(|(j, c)| c * grid_y[i + j - half])
+            .sum::<f64>();
+    }
+    let mut minima: Vec<(usize, f64)> = (half + 1..m.saturating_sub(half + 1))
+        .filter(|&i| d2[i] < 0.0 && d2[i] <= d2[i - 1] && d2[i] < d2[i + 1])
+        .map(|i| (i, -d2[i]))
+        .collect();
+    minima.sort_by(|a, b| b.1.total_cmp(&a.1));
+    let deepest = minima.first().map_or(0.0, |p| p.1);
+    let wanted = n.unwrap_or_else(|| {
+        minima
+            .iter()
+            .filter(|p| p.1 >= 0.05 * deepest)
+            .count()
+            .max(1)
+    });
+    // Deepest minima first; a minimum inside an already chosen band's
+    // zero-crossing interval is noise on that band and is skipped.
+    let mut taken: Vec<(usize, usize)> = Vec::new();
+    let mut chosen: Vec<(f64, f64)> = Vec::new();
+    for &(i, _) in &minima {
+        if chosen.len() >= wanted {
+            break;
+        }
+        if taken.iter().any(|&(l, r)| i >= l && i <= r) {
+            continue;
+        }
+        let mut l = i;
+        while l > half && d2[l] < 0.0 {
+            l -= 1;
+        }
+        let mut r = i;
+        while r + half + 1 < m && d2[r] < 0.0 {
+            r += 1;
+        }
+        taken.push((l, r));
+        let sigma = 0.5 * (r - l) as f64 * dx;
+        chosen.push((
+            x0 + i as f64 * dx,
+            (2.354_820_045 * sigma).clamp(3.0 * dx, x1 - x0),
+        ));
+    }
+    // Too few minima: spread the missing bands evenly.
+    let span = x1 - x0;
+    while chosen.len() < wanted {
+        let k = chosen.len();
+        chosen.push((
+            x0 + span * (k as f64 + 0.5) / wanted as f64,
+            span / (2.0 * wanted as f64),
+        ));
+    }
+    chosen.sort_by(|a, b| a.0.total_cmp(&b.0));
+    let heights = nnls_heights(&pts, &chosen);
+    chosen
+        .iter()
+        .zip(heights)
+        .map(|(&(centre, fwhm), height)| BandSpec {
+            shape: Shape::Gaussian,
+            centre,
+            fwhm,
+            height: if height > 0.0 {
+                height
+            } else {
+                1e-3 * span_of(&pts)
+            },
+            extra: None,
+            fixed: Vec::new(),
+        })
+        .collect()
+}
+
+fn span_of(pts: &[(f64, f64)]) -> f64 {
+    let (lo, hi) = pts
+        .iter()
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), p| {
+            (lo.min(p.1), hi.max(p.1))
+        });
+    (hi - lo).max(f64::MIN_POSITIVE)
+}
+
+/// Non-negative band heights with a free offset (as a ± column pair).
+fn nnls_heights(pts: &[(f64, f64)], bands: &[(f64, f64)]) -> Vec<f64> {
+    let k = bands.len() + 2;
+    let a = DMatrix::from_fn(pts.len(), k, |i, j| {
+        let x = pts[i].0;
+        match j.checked_sub(bands.len()) {
+            None => {
+                let (c, w) = bands[j];
+                (-4.0 * std::f64::consts::LN_2 * (x - c).powi(2) / (w * w)).exp()
+            }
+            Some(0) => 1.0,
+            Some(_) => -1.0,
+        }
+    });
+    let b = DVector::from_iterator(pts.len(), pts.iter().map(|p| p.1));
+    let sol = nnls(&a, &b);
+    sol.iter().take(bands.len()).copied().collect()
+}
+
+/// Lawson–Hanson active-set NNLS: min ‖Ax − b‖ subject to x ≥ 0.
+fn nnls(a: &DMatrix<f64>, b: &DVector<f64>) -> Vec<f64> {
+    let n = a.ncols();
+    let mut x = DVector::<f64>::zeros(n);
+    let mut passive = vec![false; n];
+    let ata = a.transpose() * a;
+    let atb = a.transpose() * b;
+    let tol = 1e-12 * ata.diagonal().amax().max(f64::MIN_POSITIVE);
+    for _ in 0..3 * n {
+        let w = &atb - &ata * &x;
+        let Some((j, wj)) = (0..n)
+            .filter(|&j| !passive[j])
+            .map(|j| (j, w[j]))
+            .max_by(|a, b| a.1.total_cmp(&b.1))
+        else {
+            break;
+        };
+        if wj <= tol {
+            break;
+        }
+        passive[j] = true;
+        for _ in 0..3 * n {
+            let idx: Vec<usize> = (0..n).filter(|&j| passive[j]).collect();
+            let sub = DMatrix::from_fn(idx.len(), idx.len(), |r, c| ata[(idx[r], idx[c])]);
+            let rhs = DVector::from_iterator(idx.len(), idx.iter().map(|&r| atb[r]));
+            let Some(z) = sub.svd(true, true).solve(&rhs, 1e-14).ok() else {
+                return x.iter().copied().collect();
+            };
+            if z.iter().all(|&v| v > 0.0) {
+                for (r, &i) in idx.iter().enumerate() {
+                    x[i] = z[r];
+                }
+                break;
+            }
+            let mut alpha = 1.0_f64;
+            for (r, &i) in idx.iter().enumerate() {
+                if z[r] <= 0.0 {
+                    alpha = alpha.min(x[i] / (x[i] - z[r]));
+                }
+            }
+            for (r, &i) in idx.iter().enumerate() {
+                x[i] += alpha * (z[r] - x[i]);
+                if x[i] <= 1e-15 {
+                    x[i] = 0.0;
+                    passive[i] = false;
+                }
+            }
+        }
+    }
+    x.iter().copied().collect()
+}

@@ -1,0 +1,153 @@
+//! Drawing of an energy-level diagram on any plotters backend (SVG for the CLI,
+//! a canvas in the browser). Every pixel size is multiplied by `scale` so a
+//! high-DPI canvas gets the same picture at more pixels.
+//!
+//! Curves are coloured by spin multiplicity; the spin-change field is drawn as a
+//! dashed vertical line; each curve is labelled at its right end unless the
+//! label would overlap the one below it.
+
+use super::{Diagram, LfError};
+use plotters::coord::Shift;
+use plotters::prelude::*;
+
+/// How to draw a diagram.
+#[derive(Debug, Clone, PartialEq)]
+pub struct DiagramStyle {
+    /// Multiplies every pixel size (1 for SVG, devicePixelRatio for a canvas).
+    pub scale: f64,
+    /// Top of the E/B axis; `None` takes twice the largest Δ/B (at least 10).
+    pub max_energy_over_b: Option<f64>,
+    /// Whether curve labels are written at the right edge.
+    pub labels: bool,
+}
+
+impl Default for DiagramStyle {
+    fn default() -> Self {
+        DiagramStyle {
+            scale: 1.0,
+            max_energy_over_b: None,
+            labels: true,
+        }
+    }
+}
+
+/// Colour for a spin multiplicity (1…6).
+fn multiplicity_colour(multiplicity: u8) -> RGBColor {
+    match multiplicity {
+        1 => RGBColor(120, 120, 120),
+        2 => RGBColor(31, 119, 180),
+        3 => RGBColor(214, 39, 40),
+        4 => RGBColor(44, 160, 44),
+        5 => RGBColor(148, 103, 189),
+        _ => RGBColor(255, 127, 14),
+    }
+}
+
+fn drawing_error<E: std::fmt::Debug>(e: E) -> LfError {
+    LfError::Drawing(format!("{e:?}"))
+}
+
+/// Draws `diagram` filling `root`.
+pub fn draw_diagram<DB: DrawingBackend>(
+    root: &DrawingArea<DB, Shift>,
+    diagram: &Diagram,
+    style: &DiagramStyle,
+) -> Result<(), LfError> {
+    let scale = if style.scale.is_finite() && style.scale > 0.0 {
+        style.scale
+    } else {
+        1.0
+    };
+    let px = |v: f64| (v * scale).round().max(1.0) as u32;
+    let x_max = diagram
+        .delta_over_b
+        .last()
+        .copied()
+        .unwrap_or(1.0)
+        .max(1e-9);
+    let y_max = style
+        .max_energy_over_b
+        .filter(|y| y.is_finite() && *y > 0.0)
+        .unwrap_or((2.0 * x_max).max(10.0));
+    root.fill(&WHITE).map_err(drawing_error)?;
+    let font = ("sans-serif", px(13.0)).into_font();
+    let mut chart = ChartBuilder::on(root)
+        .caption(
+            format!(
+                "{} {} — C/B = {}",
+                diagram.config, diagram.geometry, diagram.c_over_b
+            ),
+            ("sans-serif", px(16.0)),
+        )
+        .margin(px(10.0))
+        .margin_right(px(if style.labels { 90.0 } else { 15.0 }))
+        .x_label_area_size(px(40.0))
+        .y_label_area_size(px(50.0))
+        .build_cartesian_2d(0.0..x_max, 0.0..y_max)
+        .map_err(drawing_error)?;
+    chart
+        .configure_mesh()
+        .disable_mesh()
+        .x_desc("Δ/B")
+        .y_desc("E/B")
+        .label_style(font.clone())
+        .axis_desc_style(font.clone())
+        .draw()
+        .map_err(drawing_error)?;
+    let mut label_heights: Vec<(f64, &str, RGBColor)> = Vec::new();
+    for curve in &diagram.curves {
+        let colour = multiplicity_colour(curve.multiplicity);
+        let line = ShapeStyle::from(&colour).stroke_width(px(1.5));
+        let mut run: Vec<(f64, f64)> = Vec::new();
+        for (&x, &y) in diagram.delta_over_b.iter().zip(&curve.energy_over_b) {
+            if y <= y_max {
+                run.push((x, y));
+            } else if !run.is_empty() {
+                chart
+                    .draw_series(LineSeries::new(std::mem::take(&mut run), line))
+                    .map_err(drawing_error)?;
+            }
+        }
+        if let Some(&(x, y)) = run.last() {
+            if x >= x_max * 0.999 {
+                label_heights.push((y, curve.typeset.as_str(), colour));
+            }
+        }
+        if run.len() > 1 {
+            chart
+                .draw_series(LineSeries::new(run, line))
+                .map_err(drawing_error)?;
+        }
+    }
+    if let Some(change) = diagram.spin_change.filter(|&c| c <= x_max) {
+        chart
+            .draw_series(DashedLineSeries::new(
+                [(change, 0.0), (change, y_max)],
+                px(6.0),
+                px(4.0),
+                ShapeStyle::from(&BLACK).stroke_width(px(1.0)),
+            ))
+            .map_err(drawing_error)?;
+    }
+    if style.labels {
+        label_heights.sort_by(|a, b| a.0.total_cmp(&b.0));
+        let min_gap = y_max * 14.0 * scale / f64::from(root.dim_in_pixel().1.max(1));
+        let mut last_written = f64::NEG_INFINITY;
+        for (y, text, colour) in label_heights {
+            if y - last_written < min_gap {
+                continue;
+            }
+            last_written = y;
+            let label_font = ("sans-serif", px(11.0)).into_font().color(&colour);
+            chart
+                .draw_series(std::iter::once(Text::new(
+                    text.to_string(),
+                    (x_max * 1.01, y),
+                    label_font,
+                )))
+                .map_err(drawing_error)?;
+        }
+    }
+    root.present().map_err(drawing_error)?;
+    Ok(())
+}
