@@ -219,3 +219,32 @@ test('a long import shows progress and can be cancelled; the fresh worker keeps 
   assert.deepEqual(log.errors, []);
   await context.close();
 });
+
+test('automatic band fit in the worker: table, drawn components, undo restores the previous band set', async () => {
+  const { context, page, log } = await openPage(browser, site.url);
+  await page.evaluate(() => {
+    window.longTasks = [];
+    new PerformanceObserver((l) => l.getEntries().forEach((e) => window.longTasks.push(e.duration))).observe({ type: 'longtask' });
+  });
+  await page.locator('body').drop({ files: fixture('two-bands-nm.csv') });
+  await page.waitForFunction(() => window.ddlens.state.samples.length === 2);
+  await page.locator('#cleaning summary').click();
+  await page.locator('#clean-target').selectOption({ label: 'two-bands-nm' });
+  await page.locator('#bands-panel summary').click();
+  await page.locator('#band-count').fill('2');
+  await page.locator('#fit-bands').click();
+  await page.waitForSelector('#band-table:not([hidden])');
+  const centres = await page.evaluate(() => window.ddlens.state.samples[1].fit.fit.bands.map((b) => b.centre.value).sort((a, b) => a - b));
+  // fixtures/ui/README.md: the file was made with bands at 16 500 and 23 200 cm⁻¹ (noise σ 0.002).
+  assert.equal(centres.length, 2);
+  assert.ok(Math.abs(centres[0] - 16500) < 50 && Math.abs(centres[1] - 23200) < 50, `centres ${centres}`);
+  assert.equal(await page.locator('#band-table tbody tr').count(), 2);
+  await page.locator('.plot-area').screenshot({ path: `${OUTPUT}/bands.png` });
+  await page.locator('#undo-button').click();
+  assert.equal(await page.evaluate(() => window.ddlens.state.samples[1].fit || null), null);
+  assert.ok(await page.locator('#band-table').isHidden());
+  const longest = await page.evaluate(() => Math.max(0, ...window.longTasks));
+  assert.ok(longest <= 100, `a main-thread task took ${longest} ms during import and fit`);
+  assert.deepEqual(log.errors, []);
+  await context.close();
+});
