@@ -296,6 +296,36 @@ const ddlens = (() => {
     }
   }
 
+  /** The band table as rows of cells (value and σ in separate columns, full precision). */
+  function bandRows() {
+    const s = find(Number($('clean-target').value));
+    const fit = s && s.fit && s.fit.fit;
+    if (!fit) return null;
+    const cols = [['centre_cm-1', 'centre'], ['centre_nm', 'centre_nm'], ['fwhm_cm-1', 'fwhm'], ['height', 'height'], ['area', 'area'], ['f', 'oscillator_strength']];
+    const head = ['band', 'shape', ...cols.flatMap(([n]) => [n, `${n}_sigma`]), 'class'];
+    const num = (v) => (v == null || !Number.isFinite(v) ? '' : String(v));
+    const rows = fit.bands.map((b, i) => [String(i + 1), b.shape, ...cols.flatMap(([, k]) => [num(b[k] && b[k].value), num(b[k] && b[k].sigma)]), b.class || '']);
+    return { name: s.name, rows: [head, ...rows] };
+  }
+
+  function exportBandsCsv() {
+    const t = bandRows();
+    if (!t) { say('Fit bands first: there is no band table to export.'); return; }
+    const quote = (c) => (/[",\n]/.test(c) ? `"${c.replace(/"/g, '""')}"` : c);
+    download(new Blob([`${t.rows.map((r) => r.map(quote).join(',')).join('\n')}\n`], { type: 'text/csv' }), `${t.name.replace(/[^\w.-]+/g, '_')}-bands.csv`);
+  }
+
+  async function copyBands() {
+    const t = bandRows();
+    if (!t) { say('Fit bands first: there is no band table to copy.'); return; }
+    try {
+      await navigator.clipboard.writeText(`${t.rows.map((r) => r.join('\t')).join('\n')}\n`);
+      say('Band table copied as tab-separated text.', 'info');
+    } catch (e) {
+      say(`The clipboard refused the table: ${e.message || e}`);
+    }
+  }
+
   function renderBands() {
     const s = find(Number($('clean-target').value));
     const fit = s && s.fit && s.fit.fit;
@@ -601,6 +631,8 @@ const ddlens = (() => {
     $('busy-cancel').addEventListener('click', () => cancelCurrent && cancelCurrent());
     $('clean-target').addEventListener('change', () => { showCleaning(); renderBands(); });
     $('fit-bands').addEventListener('click', fitBands);
+    $('bands-csv').addEventListener('click', exportBandsCsv);
+    $('bands-copy').addEventListener('click', copyBands);
     $('clean-apply').addEventListener('click', () => applyCleaning());
     $('clean-clear').addEventListener('click', () => applyCleaning(true));
     $('crop-view').addEventListener('click', () => {

@@ -240,6 +240,11 @@ test('automatic band fit in the worker: table, drawn components, undo restores t
   assert.ok(Math.abs(centres[0] - 16500) < 50 && Math.abs(centres[1] - 23200) < 50, `centres ${centres}`);
   assert.equal(await page.locator('#band-table tbody tr').count(), 2);
   await page.locator('.plot-area').screenshot({ path: `${OUTPUT}/bands.png` });
+  const [dl] = await Promise.all([page.waitForEvent('download'), page.locator('#bands-csv').click()]);
+  assert.equal(dl.suggestedFilename(), 'two-bands-nm-bands.csv');
+  const table = readFileSync(await dl.path(), 'utf8').trim().split('\n').map((r) => r.split(','));
+  assert.equal(table.length, 3);
+  assert.deepEqual(table.slice(1).map((r) => Number(r[2])).sort((a, b) => a - b), centres, 'CSV centres parse back');
   await page.locator('#undo-button').click();
   assert.equal(await page.evaluate(() => window.ddlens.state.samples[1].fit || null), null);
   assert.ok(await page.locator('#band-table').isHidden());
