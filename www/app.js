@@ -67,7 +67,7 @@ const ddlens = (() => {
       /** Stops a running job at once; the caller starts a fresh worker from the cached module. */
       terminate() {
         w.terminate();
-        for (const job of pending.values()) job.reject(new Error('cancelled'));
+        for (const job of pending.values()) job.reject(Object.assign(new Error('cancelled'), { cancelled: true }));
         pending.clear();
       },
     };
@@ -111,6 +111,7 @@ const ddlens = (() => {
     $('redo-button').disabled = !history.future.length;
     renderSamples();
     renderCleanTargets();
+    renderBands();
     draw();
   }
 
@@ -126,12 +127,33 @@ const ddlens = (() => {
     };
   }
 
+  // ---------- long jobs ----------
+  // One job at a time runs in the worker with a progress line and a Cancel
+  // button; cancelling terminates the worker and starts a fresh one from the
+  // cached WebAssembly.Module (a compile is not repeated).
+  let cancelCurrent = null;
+  async function runJob(label, type, payload) {
+    $('busy-label').textContent = label;
+    $('busy-progress').removeAttribute('value');
+    $('busy').hidden = false;
+    cancelCurrent = () => {
+      worker.terminate(); // rejects the running job with a `cancelled` error
+      worker = startWorker(wasmModule);
+    };
+    try {
+      return await worker.run(type, payload, (p) => { $('busy-progress').value = p; });
+    } finally {
+      cancelCurrent = null;
+      $('busy').hidden = true;
+    }
+  }
+
   /** Imports one file's bytes in the worker; returns the report or throws an Error naming the file. */
   async function importBytes(bytes, name, options) {
     try {
-      return await worker.run('import', { bytes, name, options });
+      return await runJob(`Reading ${name}…`, 'import', { bytes, name, options });
     } catch (e) {
-      throw new Error(`${name}: ${e.message || e}`);
+      throw Object.assign(new Error(e.cancelled ? `${name}: reading cancelled; nothing was added` : `${name}: ${e.message || e}`), { cancelled: e.cancelled });
     }
   }
 
@@ -168,7 +190,8 @@ const ddlens = (() => {
         const bytes = new Uint8Array(await file.arrayBuffer());
         addReport(await importBytes(bytes.slice(), file.name, options), file.name, options, bytes);
       } catch (e) {
-        say(String(e.message || e));
+        say(String(e.message || e), e.cancelled ? 'info' : 'warn');
+        if (e.cancelled) break;
       }
     }
   }
@@ -255,6 +278,42 @@ const ddlens = (() => {
   }
   const find = (id) => state.samples.find((s) => s.id === id);
 
+  // ---------- bands ----------
+  const est = (e) => (e && Number.isFinite(e.value) ? (e.sigma != null ? `${+e.value.toPrecision(5)} ± ${+e.sigma.toPrecision(2)}` : `${+e.value.toPrecision(5)}`) : '—');
+
+  async function fitBands() {
+    const s = find(Number($('clean-target').value));
+    if (!s) return;
+    const n = parseInt($('band-count').value, 10);
+    try {
+      const result = await runJob(`Fitting bands to ${s.name}…`, 'fit', {
+        x: Float64Array.from(s.wavenumber), y: Float64Array.from(s.values),
+        n: Number.isFinite(n) && n > 0 ? n : 0, shape: $('band-shape').value,
+      });
+      edit(() => { find(s.id).fit = { ...result, x: s.wavenumber }; });
+    } catch (e) {
+      say(e.cancelled ? `${s.name}: fit cancelled` : `${s.name}: ${e.message || e}`, e.cancelled ? 'info' : 'warn');
+    }
+  }
+
+  function renderBands() {
+    const s = find(Number($('clean-target').value));
+    const fit = s && s.fit && s.fit.fit;
+    $('band-table').hidden = !fit;
+    if (!fit) return;
+    const st = fit.statistics;
+    $('fit-stats').textContent = `${s.name}: ${fit.bands.length} bands · χ²ᵥ ${st.reduced_chi2 != null ? st.reduced_chi2.toPrecision(3) : '—'} · R² ${st.r2 != null ? st.r2.toFixed(4) : '—'} · BIC ${st.bic != null ? st.bic.toFixed(1) : '—'} · ${st.evaluations} evaluations`;
+    $('band-table').tBodies[0].replaceChildren(...fit.bands.map((b, i) => {
+      const tr = document.createElement('tr');
+      for (const v of [String(i + 1), b.shape, est(b.centre), est(b.centre_nm), est(b.fwhm), est(b.height), est(b.area), est(b.oscillator_strength), b.class || '—']) {
+        const td = document.createElement('td');
+        td.textContent = v;
+        tr.append(td);
+      }
+      return tr;
+    }));
+  }
+
   // ---------- cleaning ----------
   // A sample keeps the file's data (`raw`) and the steps applied to it
   // (`processing`); `wavenumber`/`values` are recomputed from both, so any
@@ -308,7 +367,7 @@ const ddlens = (() => {
       say(`${s.name}: ${e.message || e}`);
       return;
     }
-    edit(() => Object.assign(find(s.id), { processing: p, wavenumber: out.x, values: out.y }));
+    edit(() => Object.assign(find(s.id), { processing: p, wavenumber: out.x, values: out.y, fit: null }));
   }
 
   // ---------- plotting ----------
@@ -330,6 +389,10 @@ const ddlens = (() => {
       if (!y) continue;
       if (s.processing && state.view.yMode === 'a') lines.push({ x: s.raw.wavenumber, y: s.raw.values, colour: '#858585', width: 1 });
       lines.push({ x: s.wavenumber, y, colour: s.colour, width: 1.5 });
+      if (s.fit && state.view.yMode === 'a') {
+        s.fit.components.forEach((c, k) => lines.push({ x: s.fit.x, y: c, colour: PALETTE[(k + 1) % PALETTE.length], fill: true }));
+        lines.push({ x: s.fit.x, y: s.fit.total, colour: '#000000', width: 1.5, dashed: true });
+      }
       shaded.push(...s.saturated);
     }
     const v = state.view;
@@ -535,7 +598,9 @@ const ddlens = (() => {
     $('export-csv').addEventListener('click', exportCsv);
     $('reimport').addEventListener('click', reimport);
     $('reset-view').addEventListener('click', resetView);
-    $('clean-target').addEventListener('change', showCleaning);
+    $('busy-cancel').addEventListener('click', () => cancelCurrent && cancelCurrent());
+    $('clean-target').addEventListener('change', () => { showCleaning(); renderBands(); });
+    $('fit-bands').addEventListener('click', fitBands);
     $('clean-apply').addEventListener('click', () => applyCleaning());
     $('clean-clear').addEventListener('click', () => applyCleaning(true));
     $('crop-view').addEventListener('click', () => {

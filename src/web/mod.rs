@@ -93,3 +93,45 @@ pub fn smooth_savgol(y: &[f64], window: usize, order: usize) -> Result<Vec<f64>,
     crate::spectrum::preprocess::savgol(y, window, order, 0)
         .map_err(|e| JsError::new(&e.to_string()))
 }
+
+/// Starting bands for (x, y) (`bands::guess`); `n` = 0 lets the core choose.
+#[wasm_bindgen]
+pub fn guess_bands(x: &[f64], y: &[f64], n: usize) -> Result<JsValue, JsError> {
+    to_js(&crate::bands::guess(x, y, (n > 0).then_some(n)))
+}
+
+/// What the page needs after a band fit: the fit and its curves on x.
+#[derive(Serialize)]
+struct FitView {
+    fit: crate::bands::BandFit,
+    total: Vec<f64>,
+    components: Vec<Vec<f64>>,
+    baseline: Vec<f64>,
+}
+
+/// Fits a band model (`bands::fit`, default options) and evaluates it on x.
+/// `progress` is called with the iteration number; returning false cancels.
+#[wasm_bindgen]
+pub fn fit_bands(
+    x: &[f64],
+    y: &[f64],
+    model: JsValue,
+    progress: &js_sys::Function,
+) -> Result<JsValue, JsError> {
+    let model: crate::bands::BandModel = from_js(model, "the band model")?;
+    let mut report = |p: crate::bands::Progress| {
+        progress
+            .call1(&JsValue::NULL, &JsValue::from_f64(p.iteration as f64))
+            .map(|v| v.as_bool() != Some(false))
+            .unwrap_or(true)
+    };
+    let fit = crate::bands::fit(x, y, None, &model, &Default::default(), &mut report)
+        .map_err(|e| JsError::new(&e.to_string()))?;
+    let (total, components, baseline) = crate::bands::evaluate(x, &fit);
+    to_js(&FitView {
+        fit,
+        total,
+        components,
+        baseline,
+    })
+}
