@@ -340,3 +340,18 @@ fn diagram_curves_and_errors() {
     assert!("square".parse::<Geometry>().is_err());
     assert!(diagram(6, OH, 4.8, 40.0, 1).is_err());
 }
+
+#[test]
+fn labels_are_unique() {
+    // Every level must be addressable by its label (the fit assigns bands by label).
+    for n in 1..=9u8 {
+        for g in [OH, TD] {
+            let l = levels(n, g, 1500.0, 700.0, 3100.0);
+            let mut labels: Vec<&str> = l.iter().map(|x| x.label.as_str()).collect();
+            labels.sort_unstable();
+            let before = labels.len();
+            labels.dedup();
+            assert_eq!(before, labels.len(), "d{n} {g}");
+        }
+    }
+}

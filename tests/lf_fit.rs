@@ -1,0 +1,158 @@
+//! Checks of the ligand-field parameter fit against published worked examples
+//! and closed forms (sources named next to each check).
+
+use ddlens::lf_fit::{fit, FitRequest, ObservedBand};
+use ddlens::ligand_field::{model, Geometry, Params};
+
+fn bands(energies: &[f64]) -> Vec<ObservedBand> {
+    energies
+        .iter()
+        .map(|&energy| ObservedBand {
+            energy,
+            ..ObservedBand::default()
+        })
+        .collect()
+}
+
+fn request(n: u8, ion: Option<&str>, energies: &[f64]) -> FitRequest {
+    FitRequest {
+        n,
+        ion: ion.map(String::from),
+        bands: bands(energies),
+        ..FitRequest::default()
+    }
+}
+
+#[test]
+fn chromium_aqua_ion() {
+    // [Cr(H2O)6]3+: 17 400 and 24 600 → Δ = 17 400, B = 725, β = 0.79 with B₀ = 918
+    // (reference notes [S16], [S1]); third band ≈ 37 800 (Lever 1984, from memory).
+    let out = fit(&request(3, Some("Cr3+"), &[17400.0, 24600.0])).unwrap();
+    let best = &out.best;
+    assert_eq!(best.ground, "4A2g");
+    assert!((best.derived.delta.value - 17400.0).abs() < 1.0);
+    assert!((best.parameters.b.value - 725.0).abs() < 15.0);
+    let beta = best.derived.beta.unwrap().value;
+    assert!((beta - 0.79).abs() < 0.02);
+    assert_eq!(best.derived.b0, Some(918.0));
+    let nu3 = best
+        .predicted
+        .iter()
+        .find(|p| p.state == "4T1g(P)")
+        .unwrap()
+        .energy;
+    assert!((nu3 - 37800.0).abs() < 1500.0, "ν3 = {nu3}");
+}
+
+#[test]
+fn closed_form_b_from_two_bands() {
+    // B = (ν2² + 2ν1² − 3ν1ν2)/(15ν2 − 27ν1) for d3 Oh (reference notes §4b,
+    // Lever, Inorganic Electronic Spectroscopy, from memory); Δ = ν1.
+    let (nu1, nu2) = (17400.0_f64, 24600.0_f64);
+    let b = (nu2 * nu2 + 2.0 * nu1 * nu1 - 3.0 * nu1 * nu2) / (15.0 * nu2 - 27.0 * nu1);
+    let out = fit(&request(3, None, &[nu1, nu2])).unwrap();
+    assert!((out.best.parameters.b.value - b).abs() < 1e-6 * b);
+    assert!((out.best.derived.delta.value - nu1).abs() < 1e-6 * nu1);
+}
+
+#[test]
+fn nickel_aqua_ion_is_flagged_inconsistent() {
+    // [Ni(H2O)6]2+ 8 500, 13 800, 25 300: Δ ≈ 8 500, B between 754 (ν1,ν2) and
+    // 958 (Underhill–Billing), and the set is not self-consistent (notes [S31]).
+    let out = fit(&request(8, Some("Ni2+"), &[8500.0, 13800.0, 25300.0])).unwrap();
+    let best = &out.best;
+    assert!((best.derived.delta.value - 8500.0).abs() < 300.0);
+    let b = best.parameters.b.value;
+    assert!((754.0..=958.0).contains(&b), "B = {b}");
+    assert!(best.warnings.iter().any(|w| w.contains("not consistent")));
+}
+
+#[test]
+fn titanium_jahn_teller_pair() {
+    // [Ti(H2O)6]3+ 20 300 with shoulder 17 400: 10Dq ≈ 20 300 ± 300 ([S12], [S13]).
+    let out = fit(&request(1, Some("Ti3+"), &[20300.0, 17400.0])).unwrap();
+    assert!((out.best.derived.delta.value - 20300.0).abs() < 300.0);
+    assert!(out
+        .best
+        .warnings
+        .iter()
+        .any(|w| w.contains("splitting 2900")));
+}
+
+#[test]
+fn impossible_beta_is_flagged() {
+    // The [VBr6]3- worked answer (6 600, 13 000, 19 200 reversed, β ≈ 2.7) is
+    // physically impossible (notes [S36]): every solution with β > 1.05 must warn.
+    let out = fit(&request(2, Some("V3+"), &[6600.0, 13000.0, 19200.0])).unwrap();
+    for s in std::iter::once(&out.best).chain(&out.alternatives) {
+        if let Some(beta) = s.derived.beta {
+            if beta.value > 1.05 {
+                assert!(s.warnings.iter().any(|w| w.contains("β")));
+            }
+        }
+    }
+    assert!(!out.best.warnings.is_empty());
+}
+
+#[test]
+fn round_trip_from_known_parameters() {
+    // Synthetic bands (up to three lowest spin-allowed) from our own model at known
+    // (Dq, B, C) must be fitted back with the right assignment ranked first.
+    for (n, geometry, dq) in [
+        (2u8, Geometry::Octahedral, 1800.0),
+        (3, Geometry::Octahedral, 1700.0),
+        (8, Geometry::Octahedral, 900.0),
+        (7, Geometry::Tetrahedral, 400.0),
+        (6, Geometry::Octahedral, 1000.0),
+        (6, Geometry::Octahedral, 3000.0),
+        (4, Geometry::Octahedral, 3000.0),
+    ] {
+        let truth = Params {
+            dq,
+            b: 700.0,
+            c: 3150.0,
+        };
+        let levels = model(n, geometry).unwrap().levels(&truth).unwrap();
+        let ground = levels[0].multiplicity;
+        let chosen: Vec<_> = levels[1..]
+            .iter()
+            .filter(|l| l.multiplicity == ground)
+            .take(3)
+            .collect();
+        let spin_set: Vec<f64> = chosen.iter().map(|l| l.energy).collect();
+        let req = FitRequest {
+            n,
+            geometry,
+            bands: bands(&spin_set),
+            c_over_b: Some(4.5),
+            ..FitRequest::default()
+        };
+        let out = fit(&req).unwrap();
+        let states: Vec<&str> = out
+            .best
+            .assignment
+            .iter()
+            .map(|a| a.state.as_str())
+            .collect();
+        let truth_states: Vec<&str> = chosen.iter().map(|l| l.label.as_str()).collect();
+        assert_eq!(states, truth_states, "d{n} {geometry}");
+        assert!(
+            (out.best.parameters.dq.value - dq).abs() < 1e-3,
+            "d{n} {geometry}"
+        );
+        // With one band (high-spin d6: only ⁵Eg) B is held fixed and not recovered.
+        if spin_set.len() > 1 {
+            assert!(
+                (out.best.parameters.b.value - 700.0).abs() < 1e-3,
+                "d{n} {geometry}"
+            );
+        }
+    }
+}
+
+#[test]
+fn refuses_bad_input() {
+    assert!(fit(&request(3, None, &[])).is_err());
+    assert!(fit(&request(3, Some("Ni2+"), &[17400.0])).is_err());
+    assert!(fit(&request(3, Some("Zz9+"), &[17400.0])).is_err());
+}
