@@ -156,3 +156,19 @@ fn refuses_bad_input() {
     assert!(fit(&request(3, Some("Ni2+"), &[17400.0])).is_err());
     assert!(fit(&request(3, Some("Zz9+"), &[17400.0])).is_err());
 }
+
+#[test]
+fn remarks_on_spin_state_and_doublet_order() {
+    // Cr3+ in water: the ²E/²T1 "dips" near 630–677 nm (≈ 14 800–15 900 cm⁻¹,
+    // notes [S19]) lie below ⁴T2g = 17 400, so ²Eg must be reported below ⁴T2g.
+    let out = fit(&request(3, Some("Cr3+"), &[17400.0, 24600.0])).unwrap();
+    assert!(out
+        .best
+        .notes
+        .iter()
+        .any(|n| n.contains("²Eg lies below ⁴T2g")));
+    // A low-spin d6 fit must say so, with its margin to the spin change.
+    let out = fit(&request(6, Some("Co3+"), &[16500.0, 24000.0])).unwrap();
+    assert_eq!(out.best.ground, "1A1g(I)");
+    assert!(out.best.notes.iter().any(|n| n.contains("low-spin")));
+}

@@ -83,6 +83,9 @@ pub fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
             p.sigma.unwrap_or(f64::NAN)
         );
     }
+    for n in &s.notes {
+        println!("note: {n}");
+    }
     for w in &s.warnings {
         println!("warning: {w}");
     }

@@ -140,6 +140,9 @@ pub struct Solution {
     pub score: f64,
     pub delta_chi2: f64,
     pub warnings: Vec<String>,
+    /// Plain remarks on the result: spin state and margin to the spin change,
+    /// the d3 ²E/⁴T2 order, the tetrahedral Δt ↔ (4/9)Δo comparison.
+    pub notes: Vec<String>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -586,5 +589,49 @@ fn solution(
         score: chi2 + penalty,
         delta_chi2: 0.0,
         warnings,
+        notes: remarks(req, &levels, dq, b, r),
     }
+}
+
+/// Remarks on the fitted point (see [`Solution::notes`]).
+fn remarks(req: &FitRequest, levels: &[Level], dq: f64, b: f64, r: f64) -> Vec<String> {
+    let mut notes = Vec::new();
+    let delta_over_b = 10.0 * dq / b;
+    if let (Some(ground), Ok(Some(cross))) = (
+        levels.first(),
+        crate::ligand_field::spin_change(req.n, req.geometry, r),
+    ) {
+        let side = if delta_over_b < cross {
+            "high-spin"
+        } else {
+            "low-spin"
+        };
+        notes.push(format!(
+            "ground {} is {side} (S = {}): Δ/B = {delta_over_b:.1}, spin change at Δ/B = {cross:.2} (margin {:.1})",
+            ground.label,
+            f64::from(ground.multiplicity - 1) / 2.0,
+            (delta_over_b - cross).abs()
+        ));
+    }
+    if req.n == 3 && req.geometry == Geometry::Octahedral {
+        if let (Some(e2), Some(t2)) = (energy_of(levels, "2Eg(G)"), energy_of(levels, "4T2g")) {
+            let order = if e2.energy < t2.energy {
+                "²Eg lies below ⁴T2g (strong field: sharp ²Eg emission expected)"
+            } else {
+                "⁴T2g lies below ²Eg (weak field: broad ⁴T2g emission expected)"
+            };
+            notes.push(format!(
+                "{order}; gap {:.0} cm⁻¹",
+                (t2.energy - e2.energy).abs()
+            ));
+        }
+    }
+    if req.geometry == Geometry::Tetrahedral {
+        notes.push(format!(
+            "Δt = {:.0} cm⁻¹; with Δt ≈ (4/9)Δo the same ligands would give Δo ≈ {:.0} cm⁻¹",
+            10.0 * dq,
+            22.5 * dq
+        ));
+    }
+    notes
 }
