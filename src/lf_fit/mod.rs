@@ -109,6 +109,8 @@ pub struct Derived {
     pub b0_source: Option<String>,
     pub dq_over_b: f64,
     pub c_over_b: f64,
+    /// Correlation coefficient of the fitted Dq and B (None when B was held fixed).
+    pub correlation_dq_b: Option<f64>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -581,6 +583,9 @@ fn solution(
             b0_source: free.map(|f| f.source.to_string()),
             dq_over_b: dq / b,
             c_over_b: r,
+            correlation_dq_b: (!fix_b)
+                .then(|| cov / (var_dq * var_b).sqrt())
+                .filter(|x| x.is_finite()),
         },
         ground: ground.to_string(),
         assignment,
