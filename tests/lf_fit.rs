@@ -172,3 +172,52 @@ fn remarks_on_spin_state_and_doublet_order() {
     assert_eq!(out.best.ground, "1A1g(I)");
     assert!(out.best.notes.iter().any(|n| n.contains("low-spin")));
 }
+
+#[test]
+fn underhill_billing_agrees_with_the_full_fit() {
+    // Underhill & Billing, Nature 210 (1966) 834: from ν2, ν3 of d3 Oh,
+    // 340Dq² − 18(ν2+ν3)Dq + ν2ν3 = 0 and B = (ν2 + ν3 − 30Dq)/15.
+    // ν2, ν3 synthetic from our model at Dq = 1740, B = 725, C = 4.5B.
+    let levels = model(3, Geometry::Octahedral)
+        .unwrap()
+        .levels(&Params {
+            dq: 1740.0,
+            b: 725.0,
+            c: 3262.5,
+        })
+        .unwrap();
+    let energy = |label: &str| levels.iter().find(|l| l.label == label).unwrap().energy;
+    let (nu2, nu3) = (energy("4T1g(F)"), energy("4T1g(P)"));
+    let out = fit(&FitRequest {
+        n: 3,
+        bands: bands(&[nu2, nu3]),
+        c_over_b: Some(4.5),
+        ..FitRequest::default()
+    })
+    .unwrap();
+    let t1_pair = std::iter::once(&out.best)
+        .chain(&out.alternatives)
+        .find(|s| {
+            s.assignment
+                .iter()
+                .map(|a| a.state.as_str())
+                .collect::<Vec<_>>()
+                == ["4T1g(F)", "4T1g(P)"]
+        })
+        .expect("the ⁴T1g(F), ⁴T1g(P) assignment is among the solutions");
+    let (s, p) = (nu2 + nu3, nu2 * nu3);
+    let disc = (18.0 * s).powi(2) - 4.0 * 340.0 * p;
+    let roots = [
+        (18.0 * s - disc.sqrt()) / 680.0,
+        (18.0 * s + disc.sqrt()) / 680.0,
+    ];
+    let dq = t1_pair.parameters.dq.value;
+    let root = roots
+        .iter()
+        .copied()
+        .find(|r| (r - dq).abs() < 1e-6 * dq)
+        .unwrap_or_else(|| panic!("Dq {dq} χ² {} roots {roots:?}", t1_pair.chi2));
+    let b = (s - 30.0 * root) / 15.0;
+    assert!(b > 0.0);
+    assert!((t1_pair.parameters.b.value - b).abs() < 1e-6 * b);
+}
