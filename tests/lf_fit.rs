@@ -221,3 +221,29 @@ fn underhill_billing_agrees_with_the_full_fit() {
     assert!(b > 0.0);
     assert!((t1_pair.parameters.b.value - b).abs() < 1e-6 * b);
 }
+
+#[test]
+fn free_c_round_trip() {
+    // Synthetic ²Eg, ⁴T2g, ⁴T1g(F) of d3 Oh from our model (CALC table of the notes:
+    // 15 119.09, 17 400, 24 574.10 at Dq 1740, B 725, C 3263): with C free the
+    // assignment with the doublet must return C.
+    let out = fit(&FitRequest {
+        n: 3,
+        bands: bands(&[15119.09, 17400.0, 24574.10]),
+        free_c: true,
+        spin_forbidden: true,
+        ..FitRequest::default()
+    })
+    .unwrap();
+    let wanted = ["2Eg(G)", "4T2g", "4T1g(F)"];
+    let found = std::iter::once(&out.best)
+        .chain(&out.alternatives)
+        .find(|s| s.assignment.iter().map(|a| a.state.as_str()).eq(wanted))
+        .expect("the doublet assignment is among the solutions");
+    assert!(
+        (found.parameters.c.value - 3263.0).abs() < 5.0,
+        "C = {}",
+        found.parameters.c.value
+    );
+    assert!((found.parameters.b.value - 725.0).abs() < 2.0);
+}

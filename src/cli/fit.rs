@@ -9,7 +9,7 @@ ddlens fit — ligand-field parameters from band maxima
 
 USAGE:
     ddlens fit --config d3 --geometry octahedral --band 17400 --band 24600[:σ]
-               [--ion Cr3+] [--b0-source jolly|common] [--c-over-b 4.5] [--spin-forbidden] [--json]
+               [--ion Cr3+] [--b0-source jolly|common] [--c-over-b 4.5 | --free-c] [--spin-forbidden] [--json]
 ";
 
 fn parse_band(text: &str) -> Result<ObservedBand, CliError> {

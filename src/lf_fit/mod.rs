@@ -10,7 +10,8 @@
 //! Solutions are ranked by χ² plus plausibility penalties (β outside 0.3–1.05,
 //! B above every free-ion value when no ion is given) with the reasons given
 //! as warnings, and a small preference for the lowest candidate states.
-//! Free C and the richer reports of the plan are not built yet.
+//! With `free_c` and ≥ 3 bands, C/B is also fitted by a χ² profile (golden-section
+//! search over C/B = 2…8, each point a (Dq, B) fit); σ(C) from the profile curvature.
 
 use crate::estimate::Estimate;
 use crate::ions::ion;
@@ -175,6 +176,9 @@ fn energy_of<'a>(levels: &'a [Level], label: &str) -> Option<&'a Level> {
     levels.iter().find(|l| l.label == label)
 }
 
+/// (Dq, B, χ², JᵀJ) of one fit at fixed C/B.
+type PointFit = (f64, f64, f64, [[f64; 2]; 2]);
+
 /// Fits (Dq, B) for one assignment by Levenberg–Marquardt; returns (Dq, B, χ², JᵀJ).
 fn fit_assignment(
     m: &crate::ligand_field::Model,
@@ -184,7 +188,7 @@ fn fit_assignment(
     r: f64,
     start: (f64, f64),
     fix_b: bool,
-) -> Option<(f64, f64, f64, [[f64; 2]; 2])> {
+) -> Option<PointFit> {
     let eval = |dq: f64, b: f64| -> Option<(Vec<f64>, Vec<[f64; 2]>)> {
         let levels = m.levels(&Params { dq, b, c: r * b }).ok()?;
         if levels.first()?.label != ground {
@@ -264,6 +268,51 @@ fn fit_assignment(
     Some((dq, b, chi2, a))
 }
 
+/// C free: the χ² profile over C/B (golden-section search on 2…8, each point a
+/// (Dq, B) fit). σ(C/B) from the profile curvature, scaled by the reduced χ²
+/// when over-determined; returns (C/B, σ).
+fn profile_c_over_b(
+    fit_at: &dyn Fn(f64) -> Option<PointFit>,
+    n_bands: usize,
+) -> Option<(f64, Option<f64>)> {
+    let chi2 = |r: f64| fit_at(r).map_or(f64::INFINITY, |f| f.2);
+    let golden = (5f64.sqrt() - 1.0) / 2.0;
+    let (mut lo, mut hi) = (2.0, 8.0);
+    let mut x1 = hi - golden * (hi - lo);
+    let mut x2 = lo + golden * (hi - lo);
+    let (mut f1, mut f2) = (chi2(x1), chi2(x2));
+    for _ in 0..40 {
+        if f1 <= f2 {
+            hi = x2;
+            x2 = x1;
+            f2 = f1;
+            x1 = hi - golden * (hi - lo);
+            f1 = chi2(x1);
+        } else {
+            lo = x1;
+            x1 = x2;
+            f1 = f2;
+            x2 = lo + golden * (hi - lo);
+            f2 = chi2(x2);
+        }
+    }
+    let r = 0.5 * (lo + hi);
+    let f0 = chi2(r);
+    if !f0.is_finite() {
+        return None;
+    }
+    let h = 0.01 * r;
+    let curvature = (chi2(r + h) + chi2(r - h) - 2.0 * f0) / (h * h);
+    let dof = n_bands.saturating_sub(3);
+    let scale = if dof > 0 {
+        (f0 / dof as f64).max(1e-300)
+    } else {
+        1.0
+    };
+    let sigma = (curvature > 0.0).then(|| (2.0 * scale / curvature).sqrt());
+    Some((r, sigma))
+}
+
 /// Fits every assignment and ranks the solutions.
 pub fn fit(req: &FitRequest) -> Result<FitOutcome, LfFitError> {
     let m = model(req.n, req.geometry)?;
@@ -339,8 +388,9 @@ pub fn fit(req: &FitRequest) -> Result<FitOutcome, LfFitError> {
             4.5
         }
     };
-    if req.free_c {
-        notes.push("free C is not implemented yet; C/B was held fixed".to_string());
+    let free_c = req.free_c && bands.len() >= 3;
+    if req.free_c && !free_c {
+        notes.push("C can be freed only with three or more bands; C/B was held fixed".to_string());
     }
     let b_start = free.map_or(800.0, |f| 0.8 * f.b0);
     // Starting field strengths: weak and strong, so both HS and LS grounds are tried.
@@ -388,9 +438,26 @@ pub fn fit(req: &FitRequest) -> Result<FitOutcome, LfFitError> {
                 continue;
             }
             tried.push(key);
-            let Some((dq, b, chi2, a)) =
-                fit_assignment(m, &states, &ground.label, &bands, r, (dq0, b_start), fix_b)
-            else {
+            let fit_at = |ratio: f64| {
+                fit_assignment(
+                    m,
+                    &states,
+                    &ground.label,
+                    &bands,
+                    ratio,
+                    (dq0, b_start),
+                    fix_b,
+                )
+            };
+            let (r, r_sigma) = if free_c {
+                match profile_c_over_b(&fit_at, bands.len()) {
+                    Some(found) => found,
+                    None => continue,
+                }
+            } else {
+                (r, None)
+            };
+            let Some((dq, b, chi2, a)) = fit_at(r) else {
                 continue;
             };
             solutions.push(solution(
@@ -407,6 +474,7 @@ pub fn fit(req: &FitRequest) -> Result<FitOutcome, LfFitError> {
                 fix_b,
                 free,
                 &notes,
+                r_sigma,
             ));
         }
     }
@@ -450,8 +518,9 @@ fn solution(
     fix_b: bool,
     free: Option<&crate::ions::FreeIon>,
     notes: &[String],
+    r_sigma: Option<f64>,
 ) -> Solution {
-    let free_params = if fix_b { 1 } else { 2 };
+    let free_params = if fix_b { 1 } else { 2 } + usize::from(r_sigma.is_some());
     let dof = bands.len().saturating_sub(free_params);
     let scale = if dof > 0 {
         (chi2 / dof as f64).max(1e-300)
@@ -570,10 +639,12 @@ fn solution(
             } else {
                 Estimate::new(b, s_b)
             },
-            c: if fix_b {
-                Estimate::exact(r * b)
-            } else {
-                Estimate::new(r * b, r * s_b)
+            c: match (fix_b, r_sigma) {
+                (true, _) => Estimate::exact(r * b),
+                (false, Some(sr)) => {
+                    Estimate::new(r * b, ((b * sr).powi(2) + (r * s_b).powi(2)).sqrt())
+                }
+                (false, None) => Estimate::new(r * b, r * s_b),
             },
         },
         derived: Derived {
