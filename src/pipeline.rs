@@ -325,6 +325,11 @@ pub fn analyze_spectrum(
             spin_forbidden: lf.spin_forbidden || narrow,
             b0_source: lf.b0_source.clone(),
             max_prediction: None,
+            observed_from: s
+                .wavenumber
+                .first()
+                .copied()
+                .map(|lo| opts.range.map_or(lo, |r| lo.max(r[0]))),
         };
         loop {
             match lf_fit::fit(&req) {

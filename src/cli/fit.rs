@@ -20,6 +20,8 @@ OPTIONS:
     --free-c             fit C too (three or more bands)
     --spin-forbidden     consider spin-forbidden (ΔS = ±1) transitions
     --b0-source NAME     free-ion table for β: common or jolly
+    --observed-from E    the spectrum starts at E cm⁻¹: lower transitions could not be seen
+    --max-prediction E   predict transitions up to E cm⁻¹ (default 50 000)
     --json               machine-readable output
 ";
 
@@ -71,6 +73,7 @@ pub fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
         spin_forbidden: args.flag("--spin-forbidden"),
         b0_source: args.value("--b0-source")?,
         max_prediction: args.number("--max-prediction")?,
+        observed_from: args.number("--observed-from")?,
     };
     args.finish()?;
     let outcome = lf_fit::fit(&req).map_err(|e| CliError::Failed(e.to_string()))?;

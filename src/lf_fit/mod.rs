@@ -95,6 +95,10 @@ pub struct FitRequest {
     /// Predict transitions up to this energy, cm⁻¹ (default 50 000).
     #[serde(default)]
     pub max_prediction: Option<f64>,
+    /// The lowest energy the spectrum covers, cm⁻¹: transitions below it cannot
+    /// have been seen, so leaving them unassigned costs nothing in the ranking.
+    #[serde(default)]
+    pub observed_from: Option<f64>,
 }
 
 impl Default for FitRequest {
@@ -109,6 +113,7 @@ impl Default for FitRequest {
             spin_forbidden: false,
             b0_source: None,
             max_prediction: None,
+            observed_from: None,
         }
     }
 }
@@ -277,6 +282,7 @@ pub(crate) struct Problem {
     pub spin_forbidden: bool,
     pub b0: Option<(f64, String)>,
     pub max_prediction: f64,
+    pub observed_from: f64,
     pub warnings: Vec<String>,
 }
 
@@ -367,6 +373,7 @@ fn check(req: &FitRequest) -> Result<Problem, LfFitError> {
         .max_prediction
         .filter(|v| v.is_finite() && *v > 0.0)
         .unwrap_or(50_000.0);
+    let observed_from = req.observed_from.filter(|v| v.is_finite()).unwrap_or(0.0);
     Ok(Problem {
         n,
         geometry: req.geometry,
@@ -377,6 +384,7 @@ fn check(req: &FitRequest) -> Result<Problem, LfFitError> {
         spin_forbidden: req.spin_forbidden,
         b0,
         max_prediction,
+        observed_from,
         warnings,
     })
 }

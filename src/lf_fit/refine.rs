@@ -469,7 +469,7 @@ fn build(
                 && !ev.finals.contains(&j)
                 && is_candidate(start.multiplicity, ev.levels[j].multiplicity, false)
         })
-        .filter(|&j| ev.levels[j].energy - start.energy < top)
+        .filter(|&j| (p.observed_from..top).contains(&(ev.levels[j].energy - start.energy)))
         .count();
 
     let spin = spin_state(p, &ev.levels, pr, derived.delta_over_b.map(|e| e.value));
