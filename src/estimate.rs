@@ -35,7 +35,21 @@ impl std::fmt::Display for Estimate {
                 let digits = (-decade).max(0) as usize;
                 write!(f, "{:.*} ± {:.*}", digits, self.value, digits, s)
             }
-            _ => write!(f, "{}", self.value),
+            _ => {
+                // Six significant digits, trailing zeros dropped.
+                let mag = if self.value == 0.0 {
+                    0
+                } else {
+                    self.value.abs().log10().floor() as i32
+                };
+                let text = format!("{:.*}", (5 - mag).max(0) as usize, self.value);
+                let text = if text.contains('.') {
+                    text.trim_end_matches('0').trim_end_matches('.')
+                } else {
+                    &text
+                };
+                f.write_str(text)
+            }
         }
     }
 }
@@ -56,5 +70,7 @@ mod tests {
         assert_eq!(Estimate::new(17403.2, 61.0).to_string(), "17403 ± 61");
         assert_eq!(Estimate::new(0.7912, 0.0123).to_string(), "0.791 ± 0.012");
         assert_eq!(Estimate::exact(2.5).to_string(), "2.5");
+        assert_eq!(Estimate::exact(3850.0 / 918.0).to_string(), "4.1939");
+        assert_eq!(Estimate::exact(20300.0).to_string(), "20300");
     }
 }

@@ -819,3 +819,73 @@ pub fn select_band_count(
         best,
     })
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use lm::LeastSquares;
+
+    /// The tied, fixed and baseline Jacobian (J·A) against central differences.
+    #[test]
+    fn compiled_jacobian_matches_finite_differences() {
+        let x: Vec<f64> = (0..60).map(|i| 10_000.0 + 300.0 * i as f64).collect();
+        let y: Vec<f64> = x.iter().map(|v| (v / 4000.0).sin() + 2.0).collect();
+        for baseline in [
+            BaselineModel::Polynomial(3),
+            BaselineModel::Scattering,
+            BaselineModel::ChargeTransferTail,
+        ] {
+            let band = |shape, c: f64, extra| BandSpec {
+                shape,
+                centre: c,
+                fwhm: 3_000.0,
+                height: 0.7,
+                extra,
+                fixed: Vec::new(),
+            };
+            let model = BandModel {
+                bands: vec![
+                    band(Shape::Voigt, 14_000.0, Some(800.0)),
+                    band(Shape::SkewGaussian, 19_000.0, Some(1.5)),
+                    band(Shape::PseudoVoigt, 24_000.0, Some(0.3)),
+                ],
+                baseline,
+                ties: vec![
+                    Tie::Spacing {
+                        band: 2,
+                        to: 1,
+                        spacing: 5_000.0,
+                    },
+                    Tie::HeightRatio {
+                        band: 1,
+                        to: 0,
+                        ratio: 0.8,
+                    },
+                ],
+            };
+            let c = compile(&x, &y, None, &model).unwrap();
+            let (_, _, q) = free_bounds(&c);
+            let (m, n) = (x.len(), c.free_count);
+            let mut r = vec![0.0; m];
+            let mut jac = vec![0.0; m * n];
+            assert!(c.evaluate(&q, &mut r, Some(&mut jac)));
+            for k in 0..n {
+                let h = 1e-6 * q[k].abs().max(1e-3);
+                let (mut up, mut down) = (q.clone(), q.clone());
+                up[k] += h;
+                down[k] -= h;
+                let (mut ru, mut rd) = (vec![0.0; m], vec![0.0; m]);
+                c.evaluate(&up, &mut ru, None);
+                c.evaluate(&down, &mut rd, None);
+                for i in 0..m {
+                    let fd = (ru[i] - rd[i]) / (2.0 * h);
+                    let an = jac[k * m + i];
+                    assert!(
+                        (fd - an).abs() <= 1e-5 * (1.0 + an.abs()),
+                        "{baseline:?} q{k} point {i}: {an} vs {fd}"
+                    );
+                }
+            }
+        }
+    }
+}

@@ -2,13 +2,16 @@
 //! [--range LO:HI] [--epsilon] [--max-iterations N]`: resolves overlapping bands.
 
 use super::{Args, CliError};
-use crate::bands::{self, BandModel, BaselineModel, FitOptions, Shape};
+use crate::bands::{BaselineModel, Shape};
+use crate::pipeline::{self, AnalysisError, AnalysisOptions, BandCount};
+use crate::spectrum::Quantity;
 
 const HELP: &str = "\
 ddlens deconvolve FILE [OPTIONS]
 
-Fits a sum of bands plus a baseline to a two-column spectrum (x y).
-x in cm⁻¹, or in nm when every x is below 3000.
+Fits a sum of bands plus a baseline to a spectrum file (delimited text or JCAMP-DX,
+read as `ddlens import` reads it; the first spectrum of the file). Points are weighted
+by their share of the wavenumber axis; saturated regions are left out.
 
 OPTIONS:
     --bands N|auto     number of bands (default auto: chosen by BIC, up to 6)
@@ -54,60 +57,37 @@ pub fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
     args.finish()?;
     let bytes =
         std::fs::read(&file).map_err(|e| CliError::Failed(format!("cannot read {file}: {e}")))?;
-    let (mut x, mut y) = read_two_columns(&String::from_utf8_lossy(&bytes))?;
-    if let Some((lo, hi)) = range {
-        let keep: Vec<bool> = x.iter().map(|&v| v >= lo && v <= hi).collect();
-        x = x.iter().zip(&keep).filter(|p| *p.1).map(|p| *p.0).collect();
-        y = y.iter().zip(&keep).filter(|p| *p.1).map(|p| *p.0).collect();
-    }
-    let opts = FitOptions {
-        max_iterations,
-        molar_absorptivity,
-        ..FitOptions::default()
-    };
-    let fail = |e: bands::BandFitError| CliError::Failed(e.to_string());
-    let (fit, bic) = match bands_opt.as_deref() {
-        None | Some("auto") => {
-            let report =
-                bands::select_band_count(&x, &y, None, 6, shape, baseline, &opts).map_err(fail)?;
-            (report.best, Some(report.bic))
-        }
-        Some(text) => {
-            let n: usize = text
-                .parse()
+    let count = match bands_opt.as_deref() {
+        None | Some("auto") => BandCount::Auto(6),
+        Some(text) => BandCount::Fixed(
+            text.parse()
                 .ok()
                 .filter(|n| (1..=30).contains(n))
                 .ok_or_else(|| {
                     CliError::Usage(format!(
                         "--bands: '{text}' is not a number from 1 to 30 or 'auto'"
                     ))
-                })?;
-            let mut specs = bands::guess(&x, &y, Some(n));
-            if specs.is_empty() {
-                return Err(CliError::Failed(format!(
-                    "{} data points are too few to place bands",
-                    x.len()
-                )));
-            }
-            specs.iter_mut().for_each(|b| b.shape = shape);
-            let model = BandModel {
-                bands: specs,
-                baseline,
-                ties: Vec::new(),
-            };
-            (
-                bands::fit(&x, &y, None, &model, &opts, &mut |_| true).map_err(fail)?,
-                None,
-            )
-        }
+                })?,
+        ),
     };
-    if json {
-        let mut doc = serde_json::to_value(&fit).map_err(|e| CliError::Failed(e.to_string()))?;
-        if let (Some(b), Some(obj)) = (bic, doc.as_object_mut()) {
-            obj.insert("bic_per_band_count".into(), serde_json::json!(b));
-        }
-        return super::print_json(&doc);
+    let mut opts = AnalysisOptions {
+        range: range.map(|(lo, hi)| [lo, hi]),
+        bands: count,
+        shape,
+        baseline,
+        max_iterations,
+        ..AnalysisOptions::default()
+    };
+    if molar_absorptivity {
+        opts.import.y_quantity = Some(Quantity::MolarAbsorptivity);
     }
+    let fail = |e: AnalysisError| CliError::Failed(format!("{file}: {e}"));
+    let spectrum = pipeline::pick_spectrum(&bytes, &file, &opts).map_err(fail)?;
+    let result = pipeline::deconvolve(&spectrum, &opts, &mut |_| true).map_err(fail)?;
+    if json {
+        return super::print_json(&result);
+    }
+    let (fit, bic) = (result.fit, result.bic_per_band_count);
     println!(
         "{} points, {} bands, {}",
         fit.statistics.points,
@@ -167,49 +147,4 @@ fn parse_range(text: &str) -> Result<(f64, f64), CliError> {
         return Err(bad());
     }
     Ok((lo, hi))
-}
-
-// TODO(lead): replace with crate::spectrum::import
-/// Minimal reader: lines of two numbers (comma, tab, semicolon or spaces);
-/// lines starting with '#' and text header lines before the data are skipped.
-/// x is taken as nm when every x is below 3000 and converted to cm⁻¹.
-fn read_two_columns(text: &str) -> Result<(Vec<f64>, Vec<f64>), CliError> {
-    let mut pts = Vec::new();
-    for (n, line) in text.lines().enumerate() {
-        let t = line.trim();
-        if t.is_empty() || t.starts_with('#') {
-            continue;
-        }
-        let words: Vec<&str> = t
-            .split(|c: char| c == ',' || c == ';' || c.is_whitespace())
-            .filter(|w| !w.is_empty())
-            .collect();
-        let nums: Vec<Option<f64>> = words.iter().take(2).map(|w| w.parse().ok()).collect();
-        match nums.as_slice() {
-            [Some(a), Some(b)] if a.is_finite() && b.is_finite() => pts.push((*a, *b)),
-            [Some(_), Some(_)] => {
-                return Err(CliError::Failed(format!(
-                    "line {}: NaN or infinity is not a usable value",
-                    n + 1
-                )))
-            }
-            _ if pts.is_empty() => continue,
-            _ => {
-                return Err(CliError::Failed(format!(
-                    "line {}: expected two numbers, found '{t}'",
-                    n + 1
-                )))
-            }
-        }
-    }
-    if pts.is_empty() {
-        return Err(CliError::Failed(
-            "no data lines with two numbers were found".into(),
-        ));
-    }
-    if pts.iter().all(|p| p.0 > 0.0 && p.0 < 3000.0) {
-        pts.iter_mut().for_each(|p| p.0 = 1e7 / p.0);
-    }
-    pts.sort_by(|a, b| a.0.total_cmp(&b.0));
-    Ok(pts.into_iter().unzip())
 }

@@ -124,8 +124,8 @@ pub fn diagram(
     let parents = m.parents(&at(max_delta_over_b / 1e3, c_over_b));
     let mut curves: Vec<Curve> = Vec::new();
     for (block, block_parents) in m.blocks.iter().zip(&parents) {
-        for &parent in block_parents {
-            let (irrep, label, typeset) = block.names(geometry, parent, block.size() > 1);
+        for k in 0..block_parents.len() {
+            let (irrep, label, typeset) = block.names(geometry, block_parents, k);
             curves.push(Curve {
                 label,
                 typeset,

@@ -19,6 +19,10 @@ pub struct DiagramStyle {
     pub max_energy_over_b: Option<f64>,
     /// Whether curve labels are written at the right edge.
     pub labels: bool,
+    /// A fitted Δ/B, drawn as a vertical line.
+    pub fitted_delta_over_b: Option<f64>,
+    /// Observed bands as (Δ/B, E/B) points on the curves they are assigned to.
+    pub observed: Vec<[f64; 2]>,
 }
 
 impl Default for DiagramStyle {
@@ -27,6 +31,8 @@ impl Default for DiagramStyle {
             scale: 1.0,
             max_energy_over_b: None,
             labels: true,
+            fitted_delta_over_b: None,
+            observed: Vec::new(),
         }
     }
 }
@@ -129,6 +135,25 @@ pub fn draw_diagram<DB: DrawingBackend>(
             ))
             .map_err(drawing_error)?;
     }
+    let accent = RGBColor(213, 94, 0); // Okabe–Ito vermillion
+    if let Some(x) = style
+        .fitted_delta_over_b
+        .filter(|x| x.is_finite() && (0.0..=x_max).contains(x))
+    {
+        chart
+            .draw_series(LineSeries::new(
+                [(x, 0.0), (x, y_max)],
+                accent.stroke_width(px(2.0)),
+            ))
+            .map_err(drawing_error)?;
+    }
+    let points = style
+        .observed
+        .iter()
+        .filter(|p| p.iter().all(|v| v.is_finite()) && p[1] <= y_max);
+    chart
+        .draw_series(points.map(|p| Circle::new((p[0], p[1]), px(4.0), accent.filled())))
+        .map_err(drawing_error)?;
     if style.labels {
         label_heights.sort_by(|a, b| a.0.total_cmp(&b.0));
         let min_gap = y_max * 14.0 * scale / f64::from(root.dim_in_pixel().1.max(1));

@@ -88,23 +88,30 @@ pub struct Block {
 }
 
 impl Block {
-    /// (irrep, plain label, typeset label) of a level of this block with the
-    /// given parent term; the parent is shown only when the block has several levels.
+    /// (irrep, plain label, typeset label) of the k-th level of this block, whose
+    /// levels have the parent terms `parents`. The parent is shown only when the
+    /// block has several levels; a parent letter met again in the same block gets
+    /// primes ("1T2g(I)", then "1T2g(I')"; typeset ′) so every label is unique.
     pub fn names(
         &self,
         geometry: Geometry,
-        parent: char,
-        repeated: bool,
+        parents: &[char],
+        k: usize,
     ) -> (String, String, String) {
         let irrep = self.irrep.name(geometry);
-        let tag = if repeated {
-            format!("({parent})")
+        let parent = parents.get(k).copied().unwrap_or('?');
+        let earlier = parents.iter().take(k).filter(|&&p| p == parent).count();
+        let (tag, typeset_tag) = if parents.len() > 1 {
+            (
+                format!("({parent}{})", "'".repeat(earlier)),
+                format!("({parent}{})", "′".repeat(earlier)),
+            )
         } else {
-            String::new()
+            (String::new(), String::new())
         };
         let label = format!("{}{irrep}{tag}", self.multiplicity);
         let typeset = format!(
-            "{}{}{tag}",
+            "{}{}{typeset_tag}",
             superscript(self.multiplicity),
             subscript_irrep(&irrep)
         );
@@ -352,13 +359,12 @@ impl Model {
         let mut raw = Vec::new();
         for ((block, block_states), block_parents) in self.blocks.iter().zip(&states).zip(&parents)
         {
-            let repeated = block_states.len() > 1;
-            for (state, &parent) in block_states.iter().zip(block_parents) {
+            for (k, (state, &parent)) in block_states.iter().zip(block_parents).enumerate() {
                 let x = &state.vector;
                 let expect = |m: &DMatrix<f64>| (x.transpose() * m * x)[(0, 0)];
                 let (configuration, weight) = largest_weight(&block.configurations, x)
                     .map_or((String::new(), 0.0), |(c, w)| (c.clone(), w));
-                let (irrep, label, typeset) = block.names(self.geometry, parent, repeated);
+                let (irrep, label, typeset) = block.names(self.geometry, block_parents, k);
                 raw.push(Level {
                     energy: state.energy,
                     multiplicity: block.multiplicity,

@@ -1,0 +1,672 @@
+//! Least-squares refinement of one assignment, its uncertainties, derived
+//! numbers, predictions and plausibility checks; and the ranking.
+
+use super::search::{is_candidate, keys, start_index, Tuple};
+use super::{Assigned, Derived, LfFitError, Parameters, Predicted, Problem, Solution, SpinState};
+use crate::estimate::Estimate;
+use crate::ligand_field::{check_params, model, spin_change, Geometry, Level, Params};
+use nalgebra::{DMatrix, DVector};
+
+/// Which parameters are free.
+#[derive(Debug, Clone, Copy, PartialEq)]
+enum Free {
+    /// Dq only; B held at the value given (or irrelevant when `b_matters` is false).
+    Dq { b: f64, b_matters: bool },
+    /// Dq and B, C = γB.
+    DqB,
+    /// Dq, B and C.
+    DqBC,
+}
+
+impl Free {
+    fn count(self) -> usize {
+        match self {
+            Free::Dq { .. } => 1,
+            Free::DqB => 2,
+            Free::DqBC => 3,
+        }
+    }
+
+    fn names(self) -> Vec<String> {
+        ["Dq", "B", "C"]
+            .iter()
+            .take(self.count())
+            .map(|s| s.to_string())
+            .collect()
+    }
+}
+
+fn params(free: Free, theta: &[f64], gamma: f64) -> Params {
+    match free {
+        Free::Dq { b, .. } => Params {
+            dq: theta[0],
+            b,
+            c: gamma * b,
+        },
+        Free::DqB => Params {
+            dq: theta[0],
+            b: theta[1],
+            c: gamma * theta[1],
+        },
+        Free::DqBC => Params {
+            dq: theta[0],
+            b: theta[1],
+            c: theta[2],
+        },
+    }
+}
+
+/// Transition energy and its θ-gradient from level `i0` to level `j`.
+fn transition(levels: &[Level], i0: usize, j: usize, free: Free, gamma: f64) -> (f64, Vec<f64>) {
+    let (a, b) = (&levels[j], &levels[i0]);
+    let (ddq, db, dc) = (a.d_dq - b.d_dq, a.d_b - b.d_b, a.d_c - b.d_c);
+    let grad = match free {
+        Free::Dq { .. } => vec![ddq],
+        Free::DqB => vec![ddq, db + gamma * dc],
+        Free::DqBC => vec![ddq, db, dc],
+    };
+    (a.energy - b.energy, grad)
+}
+
+struct Eval {
+    levels: Vec<Level>,
+    start: usize,
+    finals: Vec<usize>,
+    residual: DVector<f64>,
+    jacobian: DMatrix<f64>,
+}
+
+fn evaluate(p: &Problem, t: &Tuple, free: Free, theta: &[f64]) -> Option<Eval> {
+    if theta.iter().any(|v| !v.is_finite() || *v <= 0.0) {
+        return None;
+    }
+    let pr = params(free, theta, p.gamma);
+    check_params(&pr).ok()?;
+    let levels = model(p.n, p.geometry).ok()?.levels(&pr).ok()?;
+    let ks = keys(&levels);
+    let start = start_index(&levels, t.start_multiplicity)?;
+    let finals: Option<Vec<usize>> = t
+        .finals
+        .iter()
+        .map(|k| ks.iter().position(|q| q == k))
+        .collect();
+    let finals = finals?;
+    let k = finals.len();
+    let mut residual = DVector::zeros(k);
+    let mut jacobian = DMatrix::zeros(k, free.count());
+    for (i, &j) in finals.iter().enumerate() {
+        let (e, g) = transition(&levels, start, j, free, p.gamma);
+        residual[i] = (e - p.bands[i].energy) / p.sigmas[i];
+        for (c, gv) in g.iter().enumerate() {
+            jacobian[(i, c)] = gv / p.sigmas[i];
+        }
+    }
+    Some(Eval {
+        levels,
+        start,
+        finals,
+        residual,
+        jacobian,
+    })
+}
+
+/// Levenberg–Marquardt on the few ligand-field parameters.
+fn solve(p: &Problem, t: &Tuple, free: Free, mut theta: Vec<f64>) -> Option<(Vec<f64>, Eval)> {
+    let mut cur = evaluate(p, t, free, &theta)?;
+    let mut chi2 = cur.residual.norm_squared();
+    let mut lambda = 1e-3;
+    for _ in 0..200 {
+        let jt = cur.jacobian.transpose();
+        let h = &jt * &cur.jacobian;
+        let g = &jt * &cur.residual;
+        let mut a = h.clone();
+        for i in 0..a.nrows() {
+            a[(i, i)] += lambda * h[(i, i)].max(1e-12);
+        }
+        let Some(step) = a.cholesky().map(|c| c.solve(&(-&g))) else {
+            lambda *= 10.0;
+            if lambda > 1e12 {
+                break;
+            }
+            continue;
+        };
+        let trial: Vec<f64> = theta.iter().zip(step.iter()).map(|(a, b)| a + b).collect();
+        match evaluate(p, t, free, &trial) {
+            Some(next) if next.residual.norm_squared() <= chi2 => {
+                let new_chi2 = next.residual.norm_squared();
+                let small = step
+                    .iter()
+                    .zip(&trial)
+                    .all(|(s, v)| s.abs() <= 1e-12 * v.abs().max(1.0));
+                let flat = chi2 - new_chi2 <= 1e-15 * (1.0 + chi2);
+                theta = trial;
+                cur = next;
+                chi2 = new_chi2;
+                lambda = (lambda / 3.0).max(1e-12);
+                if small || (flat && lambda < 1e-6) {
+                    break;
+                }
+            }
+            _ => {
+                lambda *= 4.0;
+                if lambda > 1e12 {
+                    break;
+                }
+            }
+        }
+    }
+    Some((theta, cur))
+}
+
+/// Fits one assignment and builds its solution.
+pub(crate) fn fit_assignment(p: &Problem, t: &Tuple) -> Result<Solution, LfFitError> {
+    let k = p.bands.len();
+    let b_start = t.b.max(1.0);
+    let dq_start = t.delta_over_b * b_start / 10.0;
+    let mut warnings = Vec::new();
+    let free = if p.n == 1 || p.n == 9 {
+        Free::Dq {
+            b: b_start,
+            b_matters: false,
+        }
+    } else if k == 1 {
+        let b = p.b0.as_ref().map(|(b0, _)| 0.8 * b0).unwrap_or(800.0);
+        let probe = evaluate(p, t, Free::DqB, &[dq_start.max(1.0), b]);
+        let b_matters = probe.is_some_and(|e| e.jacobian[(0, 1)].abs() > 1e-9);
+        if b_matters {
+            warnings.push(format!(
+                "one band cannot fix both Dq and B: B was held at {b:.0} cm⁻¹ ({}), and Δ depends on that choice",
+                if p.b0.is_some() { "0.8 × B₀" } else { "a typical value" }
+            ));
+        }
+        Free::Dq { b, b_matters }
+    } else if p.free_c && k >= 3 {
+        Free::DqBC
+    } else {
+        if p.free_c {
+            warnings.push(format!(
+                "freeing C needs at least three bands: C/B was held at {:.2}",
+                p.gamma
+            ));
+        }
+        Free::DqB
+    };
+    let theta0: Vec<f64> = match free {
+        Free::Dq { b, .. } => vec![if p.n == 1 || p.n == 9 {
+            p.bands[0].energy / 10.0
+        } else {
+            t.delta_over_b * b / 10.0
+        }],
+        Free::DqB => vec![dq_start, b_start],
+        Free::DqBC => vec![dq_start, b_start, p.gamma * b_start],
+    };
+    let (theta, ev) = solve(p, t, free, theta0).ok_or_else(|| {
+        LfFitError::NoFit(
+            "the fit left the physical range (a parameter became zero or negative)".into(),
+        )
+    })?;
+    let mut solution = build(p, free, &theta, &ev, warnings)?;
+    if free == Free::DqB && k >= 3 {
+        if let Some((lo, hi)) = pairwise_b(p, t, &theta) {
+            if hi - lo > 0.1 * 0.5 * (hi + lo) {
+                solution.warnings.push(format!(
+                    "the bands are not consistent with one B: pairs of bands give B from {lo:.0} to {hi:.0} cm⁻¹ (spin–orbit mixing, a low-symmetry splitting or a wrong assignment can cause this)"
+                ));
+            }
+        }
+    }
+    Ok(solution)
+}
+
+/// B fitted to every pair of the assigned bands (with Dq), as a consistency check.
+fn pairwise_b(p: &Problem, t: &Tuple, theta: &[f64]) -> Option<(f64, f64)> {
+    let k = p.bands.len();
+    let mut bs = Vec::new();
+    for i in 0..k {
+        for j in i + 1..k {
+            let sub = Problem {
+                bands: vec![p.bands[i].clone(), p.bands[j].clone()],
+                sigmas: vec![p.sigmas[i], p.sigmas[j]],
+                warnings: Vec::new(),
+                b0: p.b0.clone(),
+                ..*p
+            };
+            let st = Tuple {
+                finals: vec![t.finals[i].clone(), t.finals[j].clone()],
+                ..t.clone()
+            };
+            if let Some((th, _)) = solve(&sub, &st, Free::DqB, theta.to_vec()) {
+                bs.push(th[1]);
+            }
+        }
+    }
+    let lo = bs.iter().copied().fold(f64::INFINITY, f64::min);
+    let hi = bs.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+    (bs.len() >= 2).then_some((lo, hi))
+}
+
+/// The covariance of θ: (JᵀJ)⁻¹, scaled by χ²/(k − p) when over-determined.
+fn covariance(ev: &Eval, dof: i64) -> Option<DMatrix<f64>> {
+    let h = ev.jacobian.transpose() * &ev.jacobian;
+    let inv = h.try_inverse()?;
+    let scale = if dof > 0 {
+        ev.residual.norm_squared() / dof as f64
+    } else {
+        1.0
+    };
+    let c = inv * scale;
+    c.iter().all(|v| v.is_finite()).then_some(c)
+}
+
+fn propagate(cov: Option<&DMatrix<f64>>, value: f64, grad: &[f64]) -> Estimate {
+    match cov {
+        Some(c) => {
+            let g = DVector::from_column_slice(grad);
+            Estimate::new(value, (g.transpose() * c * &g)[(0, 0)].max(0.0).sqrt())
+        }
+        None => Estimate::exact(value),
+    }
+}
+
+fn build(
+    p: &Problem,
+    free: Free,
+    theta: &[f64],
+    ev: &Eval,
+    mut warnings: Vec<String>,
+) -> Result<Solution, LfFitError> {
+    let k = p.bands.len();
+    let np = free.count();
+    let dof = k as i64 - np as i64;
+    let chi2 = ev.residual.norm_squared();
+    let cov = covariance(ev, dof);
+    if cov.is_none() {
+        warnings.push(
+            "these bands do not determine the parameters (singular matrix): no uncertainties"
+                .into(),
+        );
+    }
+    let c = cov.as_ref();
+    let pr = params(free, theta, p.gamma);
+    let z = |i: usize| {
+        let mut g = vec![0.0; np];
+        if i < np {
+            g[i] = 1.0;
+        }
+        g
+    };
+    let dq = propagate(c, pr.dq, &z(0));
+    let b_known = !matches!(
+        free,
+        Free::Dq {
+            b_matters: false,
+            ..
+        }
+    );
+    let (b, cc, c_over_b, dq_over_b) = match free {
+        Free::Dq { .. } => {
+            let b = b_known.then(|| Estimate::exact(pr.b));
+            let cc = b_known.then(|| Estimate::exact(pr.c));
+            (
+                b,
+                cc,
+                b_known.then(|| Estimate::exact(p.gamma)),
+                b_known.then(|| propagate(c, pr.dq / pr.b, &[1.0 / pr.b])),
+            )
+        }
+        Free::DqB => (
+            Some(propagate(c, pr.b, &z(1))),
+            Some(propagate(c, pr.c, &[0.0, p.gamma])),
+            Some(Estimate::exact(p.gamma)),
+            Some(propagate(
+                c,
+                pr.dq / pr.b,
+                &[1.0 / pr.b, -pr.dq / (pr.b * pr.b)],
+            )),
+        ),
+        Free::DqBC => (
+            Some(propagate(c, pr.b, &z(1))),
+            Some(propagate(c, pr.c, &z(2))),
+            Some(propagate(
+                c,
+                pr.c / pr.b,
+                &[0.0, -pr.c / (pr.b * pr.b), 1.0 / pr.b],
+            )),
+            Some(propagate(
+                c,
+                pr.dq / pr.b,
+                &[1.0 / pr.b, -pr.dq / (pr.b * pr.b), 0.0],
+            )),
+        ),
+    };
+    let scale_est = |e: Estimate, f: f64| Estimate {
+        value: e.value * f,
+        sigma: e.sigma.map(|s| s * f.abs()),
+    };
+    let beta = match (&b, &p.b0) {
+        (Some(bv), Some((b0, _))) if matches!(free, Free::DqB | Free::DqBC) => {
+            Some(scale_est(*bv, 1.0 / b0))
+        }
+        _ => None,
+    };
+    let derived = Derived {
+        delta: scale_est(dq, 10.0),
+        beta,
+        b0: p.b0.as_ref().map(|(v, _)| *v),
+        b0_source: p.b0.as_ref().map(|(_, s)| s.clone()),
+        dq_over_b,
+        delta_over_b: dq_over_b.map(|e| scale_est(e, 10.0)),
+        c_over_b,
+    };
+
+    // Assignment and predictions.
+    let start = &ev.levels[ev.start];
+    let mut assignment = Vec::with_capacity(k);
+    for (i, &j) in ev.finals.iter().enumerate() {
+        let calculated = ev.levels[j].energy - start.energy;
+        assignment.push(Assigned {
+            observed: p.bands[i].energy,
+            sigma: p.sigmas[i],
+            state: ev.levels[j].label.clone(),
+            typeset: ev.levels[j].typeset.clone(),
+            calculated,
+            residual: p.bands[i].energy - calculated,
+        });
+    }
+    let mut predicted = Vec::new();
+    for j in 0..ev.levels.len() {
+        if j == ev.start {
+            continue;
+        }
+        let (e, g) = transition(&ev.levels, ev.start, j, free, p.gamma);
+        if e <= 0.0 || e > p.max_prediction {
+            continue;
+        }
+        predicted.push(Predicted {
+            state: ev.levels[j].label.clone(),
+            typeset: ev.levels[j].typeset.clone(),
+            energy: e,
+            sigma: propagate(c, e, &g).sigma,
+            spin_allowed: ev.levels[j].multiplicity == start.multiplicity,
+            observed: ev.finals.contains(&j),
+        });
+    }
+
+    // Plausibility (common practice unless stated).
+    let mut plausible = true;
+    let mut flag = |text: String, w: &mut Vec<String>| {
+        plausible = false;
+        w.push(text);
+    };
+    if ev.levels[0].multiplicity != start.multiplicity {
+        flag(format!("at the fitted field the ground state is {}, not {}: this spin state is inconsistent", ev.levels[0].typeset, start.typeset), &mut warnings);
+    }
+    if let Some(bt) = beta {
+        if bt.value > 1.05 {
+            flag(format!("β = {:.2} is above 1.05: a B larger than the free ion's is not physical (a wrong assignment?)", bt.value), &mut warnings);
+        } else if bt.value < 0.3 {
+            flag(
+                format!(
+                    "β = {:.2} is below 0.3: implausibly strong covalency",
+                    bt.value
+                ),
+                &mut warnings,
+            );
+        }
+    } else if matches!(free, Free::DqB | Free::DqBC) && pr.b > 1300.0 {
+        flag(
+            format!(
+                "B = {:.0} cm⁻¹ is above every first-row free-ion value (≈ 1240 cm⁻¹ at most)",
+                pr.b
+            ),
+            &mut warnings,
+        );
+    }
+    if let Some(r) = dq_over_b {
+        if !(0.2..=6.0).contains(&r.value) {
+            flag(
+                format!(
+                    "Dq/B = {:.2} lies outside the range 0.2–6 met in cubic complexes",
+                    r.value
+                ),
+                &mut warnings,
+            );
+        }
+    }
+    for (i, &j) in ev.finals.iter().enumerate() {
+        let Some(eps) = p.bands[i].epsilon else {
+            continue;
+        };
+        let allowed = ev.levels[j].multiplicity == start.multiplicity;
+        if allowed && p.geometry == Geometry::Octahedral && eps > 1000.0 {
+            flag(format!("the band at {:.0} cm⁻¹ (ε = {eps:.0}) is too intense for a Laporte-forbidden octahedral d–d band: charge transfer?", p.bands[i].energy), &mut warnings);
+        } else if !allowed && eps > 10.0 {
+            flag(format!("the band at {:.0} cm⁻¹ (ε = {eps:.0}) is too intense for a spin-forbidden transition", p.bands[i].energy), &mut warnings);
+        }
+    }
+    for a in &assignment {
+        if a.residual.abs() > 3.0 * a.sigma {
+            warnings.push(format!(
+                "the band at {:.0} cm⁻¹ is {:.0} cm⁻¹ from its calculated position ({:.1} σ)",
+                a.observed,
+                a.residual,
+                a.residual.abs() / a.sigma
+            ));
+        }
+    }
+    if dof > 0 && chi2 / dof as f64 > 4.0 {
+        warnings.push(format!(
+            "the bands are not consistent with one set of parameters (reduced χ² = {:.1}): B depends on which bands are used; spin–orbit mixing, a low-symmetry splitting or a wrong assignment can cause this",
+            chi2 / dof as f64
+        ));
+    }
+
+    // Lower spin-allowed transitions skipped by the assignment.
+    let top = assignment.iter().map(|a| a.calculated).fold(0.0, f64::max);
+    let skipped = (0..ev.levels.len())
+        .filter(|&j| {
+            j != ev.start
+                && !ev.finals.contains(&j)
+                && is_candidate(start.multiplicity, ev.levels[j].multiplicity, false)
+        })
+        .filter(|&j| (p.observed_from..top).contains(&(ev.levels[j].energy - start.energy)))
+        .count();
+
+    let spin = spin_state(p, &ev.levels, pr, derived.delta_over_b.map(|e| e.value));
+    let notes = notes(p, pr, free, &derived);
+    Ok(Solution {
+        parameters: Parameters { dq, b, c: cc },
+        derived,
+        ground: start.label.clone(),
+        ground_typeset: start.typeset.clone(),
+        spin,
+        assignment,
+        predicted,
+        chi2,
+        degrees_of_freedom: dof,
+        free: free.names(),
+        correlation: correlation(c),
+        delta_chi2: 0.0,
+        plausible,
+        warnings,
+        notes,
+        score: chi2 + 4.0 * skipped as f64,
+    })
+}
+
+fn correlation(cov: Option<&DMatrix<f64>>) -> Vec<Vec<f64>> {
+    let Some(c) = cov else { return Vec::new() };
+    (0..c.nrows())
+        .map(|i| {
+            (0..c.ncols())
+                .map(|j| c[(i, j)] / (c[(i, i)] * c[(j, j)]).sqrt())
+                .map(|v| if v.is_finite() { v } else { 0.0 })
+                .collect()
+        })
+        .collect()
+}
+
+fn spin_state(p: &Problem, levels: &[Level], pr: Params, delta_over_b: Option<f64>) -> SpinState {
+    let gamma = if pr.b > 0.0 { pr.c / pr.b } else { p.gamma };
+    let crossing = spin_change(p.n, p.geometry, gamma).ok().flatten();
+    let max_mult = p.n.min(10 - p.n) + 1;
+    let state = match crossing {
+        None => "only one spin state".to_string(),
+        Some(_) if levels.first().is_some_and(|l| l.multiplicity == max_mult) => "high-spin".into(),
+        Some(_) => "low-spin".into(),
+    };
+    SpinState {
+        state,
+        spin_change_delta_over_b: crossing,
+        margin: crossing.zip(delta_over_b).map(|(x, d)| d - x),
+    }
+}
+
+/// Dq/B where ²E and ⁴T₂ of octahedral d³ cross, at C/B = γ.
+pub(crate) fn d3_crossing(gamma: f64) -> Option<f64> {
+    let m = model(3, Geometry::Octahedral).ok()?;
+    let gap = |x: f64| -> Option<f64> {
+        let ls = m
+            .levels(&Params {
+                dq: x,
+                b: 1.0,
+                c: gamma,
+            })
+            .ok()?;
+        let e2 = ls
+            .iter()
+            .find(|l| l.multiplicity == 2 && l.irrep == "Eg")?
+            .energy;
+        let t2 = ls
+            .iter()
+            .find(|l| l.multiplicity == 4 && l.irrep == "T2g")?
+            .energy;
+        Some(e2 - t2)
+    };
+    let (mut a, mut b) = (0.3, 6.0);
+    let (ga, gb) = (gap(a)?, gap(b)?);
+    if ga.signum() == gb.signum() {
+        return None;
+    }
+    for _ in 0..60 {
+        let mid = 0.5 * (a + b);
+        if gap(mid)?.signum() == ga.signum() {
+            a = mid;
+        } else {
+            b = mid;
+        }
+    }
+    Some(0.5 * (a + b))
+}
+
+fn notes(p: &Problem, pr: Params, free: Free, d: &Derived) -> Vec<String> {
+    let mut out = Vec::new();
+    if p.n == 3 && p.geometry == Geometry::Octahedral && matches!(free, Free::DqB | Free::DqBC) {
+        if let (Some(x), Some(r)) = (d3_crossing(pr.c / pr.b), d.dq_over_b) {
+            let side = if r.value > x {
+                "²E is the lowest excited state: narrow-line (²E) emission expected"
+            } else {
+                "⁴T₂ is the lowest excited state: broad-band (⁴T₂) emission expected"
+            };
+            out.push(format!(
+                "Dq/B = {:.2} against the ²E/⁴T₂ crossing at Dq/B = {x:.2}: {side}",
+                r.value
+            ));
+        }
+    }
+    if p.geometry == Geometry::Tetrahedral {
+        out.push(format!(
+            "Δt = {:.0} cm⁻¹; an octahedral site with the same ligands would have Δo ≈ 9/4 · Δt = {:.0} cm⁻¹ (Δt ≈ 4/9 Δo, common practice)",
+            d.delta.value,
+            2.25 * d.delta.value
+        ));
+    }
+    if matches!(
+        free,
+        Free::Dq {
+            b_matters: false,
+            ..
+        }
+    ) && (p.n == 1 || p.n == 9)
+    {
+        out.push("a single-term ion (d¹/d⁹): Δ is the band maximum; B and C do not enter".into());
+    }
+    out
+}
+
+/// d¹/d⁹ with two bands: a Jahn–Teller (or low-symmetry) split band; Δ is
+/// their barycentre. Returns `None` for every other case.
+pub(crate) fn single_state(p: &Problem) -> Result<Option<Solution>, LfFitError> {
+    if !(p.n == 1 || p.n == 9) || p.bands.len() != 2 {
+        return Ok(None);
+    }
+    let levels = model(p.n, p.geometry)?.levels(&Params {
+        dq: 1000.0,
+        b: 1000.0,
+        c: 4000.0,
+    })?;
+    let (Some(g), Some(e)) = (levels.first(), levels.get(1)) else {
+        return Ok(None);
+    };
+    let (n1, n2) = (p.bands[0].energy, p.bands[1].energy);
+    let (s1, s2) = (p.sigmas[0], p.sigmas[1]);
+    let delta = 0.5 * (n1 + n2);
+    let sigma = 0.5 * (s1 * s1 + s2 * s2).sqrt();
+    let split = n2 - n1;
+    let dq = Estimate::new(delta / 10.0, sigma / 10.0);
+    let predicted = vec![Predicted {
+        state: e.label.clone(),
+        typeset: e.typeset.clone(),
+        energy: delta,
+        sigma: Some(sigma),
+        spin_allowed: true,
+        observed: true,
+    }];
+    let assignment = p
+        .bands
+        .iter()
+        .zip(&p.sigmas)
+        .map(|(b, s)| Assigned {
+            observed: b.energy,
+            sigma: *s,
+            state: e.label.clone(),
+            typeset: e.typeset.clone(),
+            calculated: delta,
+            residual: b.energy - delta,
+        })
+        .collect();
+    Ok(Some(Solution {
+        parameters: Parameters { dq, b: None, c: None },
+        derived: Derived { delta: Estimate::new(delta, sigma), beta: None, b0: None, b0_source: None, dq_over_b: None, delta_over_b: None, c_over_b: None },
+        ground: g.label.clone(),
+        ground_typeset: g.typeset.clone(),
+        spin: SpinState { state: "only one spin state".into(), spin_change_delta_over_b: None, margin: None },
+        assignment,
+        predicted,
+        chi2: 0.0,
+        degrees_of_freedom: 0,
+        free: vec!["Dq".into()],
+        correlation: vec![vec![1.0]],
+        delta_chi2: 0.0,
+        plausible: true,
+        warnings: Vec::new(),
+        notes: vec![format!(
+            "the two bands are read as one {} transition split by a Jahn–Teller (or low-symmetry) distortion: Δ = barycentre {delta:.0} cm⁻¹, splitting {split:.0} cm⁻¹",
+            e.typeset
+        )],
+        score: 0.0,
+    }))
+}
+
+/// Sorts plausible solutions first, then by score; fills Δχ².
+pub(crate) fn rank(solutions: &mut [Solution]) {
+    solutions.sort_by(|a, b| {
+        (!a.plausible)
+            .cmp(&!b.plausible)
+            .then(a.score.total_cmp(&b.score))
+    });
+    let best = solutions.first().map(|s| s.chi2).unwrap_or(0.0);
+    for s in solutions.iter_mut() {
+        s.delta_chi2 = s.chi2 - best;
+    }
+}

@@ -1,0 +1,119 @@
+//! Facade for the ligand-field side: ions, levels, the whole-pipeline
+//! analysis, the assignment fit and the energy-level diagram.
+
+use super::{from_js, to_js};
+use crate::ligand_field::{self, draw_diagram, DiagramStyle, Geometry, Params};
+use crate::pipeline::{self, AnalysisOptions};
+use crate::spectrum::{Quantity, Spectrum, XUnit};
+use plotters::prelude::IntoDrawingArea;
+use plotters_canvas::CanvasBackend;
+use serde::Deserialize;
+use wasm_bindgen::prelude::*;
+use web_sys::HtmlCanvasElement;
+
+fn geometry(text: &str) -> Result<Geometry, JsError> {
+    text.parse().map_err(|e: ligand_field::LfError| JsError::new(&e.to_string()))
+}
+
+/// Every ion of the table with its dⁿ and free-ion parameters (and their sources).
+#[wasm_bindgen]
+pub fn ions() -> Result<JsValue, JsError> {
+    to_js(&crate::ions::all_ions())
+}
+
+/// All levels of dⁿ at (Dq, B, C), lowest first.
+#[wasm_bindgen]
+pub fn levels(n: u8, geometry_name: &str, dq: f64, b: f64, c: f64) -> Result<JsValue, JsError> {
+    let m = ligand_field::model(n, geometry(geometry_name)?)?;
+    to_js(&m.levels(&Params { dq, b, c })?)
+}
+
+/// A spectrum as the page holds it (after its own cleaning steps).
+#[derive(Deserialize)]
+struct SpectrumIn {
+    name: String,
+    wavenumber: Vec<f64>,
+    values: Vec<f64>,
+    #[serde(default)]
+    quantity: Option<Quantity>,
+    #[serde(default)]
+    saturated: Vec<[f64; 2]>,
+}
+
+/// The whole analysis of one spectrum (the same function as `ddlens analyze`).
+#[wasm_bindgen]
+pub fn analyze(spectrum: JsValue, options: JsValue) -> Result<JsValue, JsError> {
+    let s: SpectrumIn = from_js(spectrum, "the spectrum")?;
+    let opts: AnalysisOptions = from_js(options, "the analysis options")?;
+    let spectrum = Spectrum {
+        name: s.name,
+        wavenumber: s.wavenumber,
+        values: s.values,
+        quantity: s.quantity.unwrap_or(Quantity::Absorbance),
+        x_unit_read: XUnit::Wavenumber,
+        saturated: s.saturated,
+        metadata: Default::default(),
+        warnings: Vec::new(),
+    };
+    to_js(&pipeline::analyze_spectrum(&spectrum, &opts, &mut |_| true)?)
+}
+
+/// The assignment search and fit for given band maxima (after the user edits the assignment).
+#[wasm_bindgen]
+pub fn fit_ligand_field(request: JsValue) -> Result<JsValue, JsError> {
+    let req: crate::lf_fit::FitRequest = from_js(request, "the fit request")?;
+    to_js(&crate::lf_fit::fit(&req)?)
+}
+
+fn diagram_and_style(
+    n: u8,
+    geometry_name: &str,
+    c_over_b: f64,
+    max_delta_over_b: f64,
+    fitted: Option<f64>,
+    observed: JsValue,
+    scale: f64,
+) -> Result<(ligand_field::Diagram, DiagramStyle), JsError> {
+    let d = ligand_field::diagram(n, geometry(geometry_name)?, c_over_b, max_delta_over_b, 300)?;
+    let observed: Vec<[f64; 2]> = if observed.is_undefined() || observed.is_null() { Vec::new() } else { from_js(observed, "the observed points")? };
+    Ok((d, DiagramStyle { scale, fitted_delta_over_b: fitted, observed, ..DiagramStyle::default() }))
+}
+
+/// Draws the energy-level diagram (E/B against Δ/B) on a canvas sized CSS × `scale`;
+/// returns the curves (for hover read-outs).
+#[wasm_bindgen]
+#[allow(clippy::too_many_arguments)]
+pub fn draw_level_diagram(
+    canvas: HtmlCanvasElement,
+    n: u8,
+    geometry_name: &str,
+    c_over_b: f64,
+    max_delta_over_b: f64,
+    fitted: Option<f64>,
+    observed: JsValue,
+    scale: f64,
+) -> Result<JsValue, JsError> {
+    let (d, style) = diagram_and_style(n, geometry_name, c_over_b, max_delta_over_b, fitted, observed, scale.clamp(0.5, 8.0))?;
+    let backend = CanvasBackend::with_canvas_object(canvas).ok_or_else(|| JsError::new("the canvas has no 2D context"))?;
+    draw_diagram(&backend.into_drawing_area(), &d, &style)?;
+    to_js(&d)
+}
+
+/// The same diagram as an SVG document.
+#[wasm_bindgen]
+pub fn level_diagram_svg(
+    n: u8,
+    geometry_name: &str,
+    c_over_b: f64,
+    max_delta_over_b: f64,
+    fitted: Option<f64>,
+    observed: JsValue,
+) -> Result<String, JsError> {
+    let (d, style) = diagram_and_style(n, geometry_name, c_over_b, max_delta_over_b, fitted, observed, 1.0)?;
+    let mut out = String::new();
+    {
+        let root = plotters::prelude::SVGBackend::with_string(&mut out, (900, 700)).into_drawing_area();
+        draw_diagram(&root, &d, &style)?;
+    }
+    Ok(out)
+}
