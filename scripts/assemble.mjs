@@ -18,7 +18,9 @@ for (const [name, text] of [['glue', glue], ['app', app], ['worker', worker]]) {
   if (/<\/script/i.test(text)) throw new Error(`${name} contains '</script' and cannot be inlined`);
 }
 
-const common = "default-src 'none'; base-uri 'none'; form-action 'none'; img-src 'self' data: blob:";
+// style-src-attr: plotters measures text by giving a <span> a style attribute
+// (plotters/src/style/font/web.rs); style attributes cannot run script.
+const common = "default-src 'none'; base-uri 'none'; form-action 'none'; img-src 'self' data: blob:; style-src-attr 'unsafe-inline'";
 
 // The static site.
 rmSync('dist/site', { recursive: true, force: true });

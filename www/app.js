@@ -113,6 +113,7 @@ const ddlens = (() => {
     renderCleanTargets();
     renderBands();
     draw();
+    autosaveSoon();
   }
 
   // ---------- data in ----------
@@ -123,7 +124,8 @@ const ddlens = (() => {
       y_quantity: $('ov-y').value || null,
       air_to_vacuum: false,
       concentration_mol_l: num('ov-conc'),
-      path_length_cm: num('ov-path'),
+      // The path length field defaults to 1 cm: pass it only with a concentration.
+      path_length_cm: num('ov-conc') ? num('ov-path') : null,
     };
   }
 
@@ -188,6 +190,12 @@ const ddlens = (() => {
     for (const file of files) {
       try {
         const bytes = new Uint8Array(await file.arrayBuffer());
+        if (/\.json$/i.test(file.name) || bytes[0] === 0x7b) {
+          let doc;
+          try { doc = JSON.parse(new TextDecoder().decode(bytes)); } catch { throw new Error(`${file.name}: not valid JSON, so not a ddlens project`); }
+          try { await loadProject(doc); } catch (e) { throw new Error(`${file.name}: ${e.message}`); }
+          continue;
+        }
         addReport(await importBytes(bytes.slice(), file.name, options), file.name, options, bytes);
       } catch (e) {
         say(String(e.message || e), e.cancelled ? 'info' : 'warn');
@@ -426,8 +434,9 @@ const ddlens = (() => {
       shaded.push(...s.saturated);
     }
     const v = state.view;
+    const markers = state.lf && state.samples.some((x) => x.id === state.lf.sampleId && x.visible) ? predictions() : [];
     return {
-      lines, shaded,
+      lines, shaded, markers,
       x_range: v.x, y_range: v.y, nm_bottom: v.nmBottom,
       y_label: { a: 'absorbance', eps: 'ε / M⁻¹ cm⁻¹', logeps: 'log(ε / M⁻¹ cm⁻¹)' }[v.yMode],
     };
@@ -614,6 +623,292 @@ const ddlens = (() => {
     download(new Blob([`${rows.join('\n')}\n`], { type: 'text/csv' }), `${baseName()}-spectra.csv`);
   }
 
+
+  // ---------- ligand field ----------
+  // The analysis runs in the worker (core pipeline); predictions for the
+  // what-if control come from the engine's levels on the main thread.
+  const fmt = (e, unit = '') => {
+    if (!e || !Number.isFinite(e.value)) return '—';
+    if (e.sigma == null) return `${+e.value.toPrecision(4)}${unit}`;
+    const d = Math.max(0, 1 - Math.floor(Math.log10(e.sigma)));
+    const group = (v) => v.toFixed(d).replace(/\B(?=(\d{3})+(?!\d))/g, '\u2009');
+    return `${group(e.value)} ± ${group(e.sigma)}${unit}`;
+  };
+
+  function fillIons() {
+    const sel = $('lf-ion');
+    for (const ion of wasm_bindgen.ions()) {
+      const o = document.createElement('option');
+      o.value = ion.symbol;
+      o.textContent = `${ion.symbol} (d${ion.d_electrons})`;
+      o.dataset.n = ion.d_electrons;
+      sel.append(o);
+    }
+    sel.value = 'Cr3+';
+  }
+
+  function lfOptions() {
+    const cb = parseFloat($('lf-cb').value);
+    const n = parseInt($('band-count').value, 10);
+    return {
+      import: {}, spectrum: 0, range: null,
+      bands: Number.isFinite(n) && n > 0 ? { fixed: n } : { auto: 6 },
+      shape: $('band-shape').value, baseline: 'linear', max_iterations: 200,
+      ligand_field: {
+        ion: $('lf-ion').value, n: null, geometry: $('lf-geometry').value,
+        c_over_b: Number.isFinite(cb) ? cb : null,
+        free_c: $('lf-free-c').checked, spin_forbidden: $('lf-spin-forbidden').checked,
+        b0_source: $('lf-b0').value,
+      },
+    };
+  }
+
+  async function analyzeSample() {
+    const s = find(Number($('clean-target').value));
+    if (!s) { say('Load a spectrum first.', 'info'); return; }
+    const spectrum = { name: s.name, wavenumber: Array.from(s.wavenumber), values: Array.from(s.values), quantity: s.quantity, saturated: s.saturated };
+    try {
+      const analysis = await runJob(`Analysing ${s.name}…`, 'analyze', { spectrum, options: lfOptions() });
+      state.lf = { sampleId: s.id, analysis, whatIf: null, n: Number($('lf-ion').selectedOptions[0].dataset.n), geometry: $('lf-geometry').value };
+      if (!analysis.fit) say(`${s.name}: no ligand-field fit — ${analysis.fit_error}`);
+      renderLf();
+      draw();
+      autosaveSoon();
+    } catch (e) {
+      say(e.cancelled ? `${s.name}: analysis cancelled` : `${s.name}: ${e.message || e}`, e.cancelled ? 'info' : 'warn');
+    }
+  }
+
+  function row(tbody, cells, header = false) {
+    const tr = document.createElement('tr');
+    cells.forEach((c, i) => {
+      const td = document.createElement(header && i === 0 ? 'th' : 'td');
+      if (header && i === 0) td.scope = 'row';
+      td.textContent = c;
+      tr.append(td);
+    });
+    tbody.append(tr);
+  }
+
+  function renderLf() {
+    const lf = state.lf;
+    const fit = lf && lf.analysis.fit;
+    $('lf-results').hidden = !fit;
+    if (!fit) return;
+    const b = fit.best, d = b.derived, p = b.parameters;
+    const card = $('lf-card').tBodies[0];
+    card.replaceChildren();
+    row(card, ['10Dq (Δ)', fmt(d.delta, ' cm⁻¹')], true);
+    row(card, ['B', fmt(p.b, ' cm⁻¹')], true);
+    row(card, ['C', fmt(p.c, ' cm⁻¹')], true);
+    row(card, ['C/B', fmt(d.c_over_b)], true);
+    row(card, ['β = B/B₀', d.beta ? `${fmt(d.beta)} (B₀ = ${d.b0} cm⁻¹, ${d.b0_source})` : '— (no free-ion B₀)'], true);
+    row(card, ['Dq/B', fmt(d.dq_over_b)], true);
+    const margin = b.spin.margin != null ? ` — spin change at Δ/B = ${b.spin.spin_change_delta_over_b.toFixed(2)} (margin ${b.spin.margin >= 0 ? '+' : ''}${b.spin.margin.toFixed(2)})` : '';
+    row(card, ['ground state', `${b.ground_typeset}, ${b.spin.state}${margin}`], true);
+    row(card, ['χ²', `${b.chi2.toPrecision(3)} (${b.degrees_of_freedom} degrees of freedom)`], true);
+    const at = $('lf-assignment').tBodies[0];
+    at.replaceChildren();
+    for (const a of b.assignment) row(at, [a.observed.toFixed(0), (1e7 / a.observed).toFixed(1), a.typeset, a.calculated.toFixed(0), a.residual.toFixed(0)]);
+    const w = $('lf-warnings');
+    w.replaceChildren();
+    for (const text of [...b.warnings, ...fit.warnings, ...lf.analysis.warnings, ...b.notes]) {
+      const li = document.createElement('li');
+      li.textContent = text;
+      w.append(li);
+    }
+    const alt = $('lf-alternatives').tBodies[0];
+    alt.replaceChildren();
+    for (const a of fit.alternatives.slice(0, 6)) {
+      row(alt, [a.delta_chi2.toFixed(2), a.derived.delta.value.toFixed(0), a.parameters.b ? a.parameters.b.value.toFixed(0) : '—',
+        a.assignment.map((x) => x.typeset).join(', '), a.warnings[0] || (a.plausible ? 'higher χ² or a lower band left unobserved' : '')]);
+    }
+    const x = d.delta_over_b ? d.delta_over_b.value : 20;
+    $('whatif-x').value = x;
+    $('whatif-x-out').textContent = x.toFixed(2);
+    $('whatif-b').value = p.b ? Math.round(p.b.value) : 700;
+    drawDiagram();
+  }
+
+  /** Transitions (energy, typeset, spin-allowed) at the what-if point, or the fit's predictions. */
+  function predictions() {
+    const lf = state.lf;
+    const fit = lf && lf.analysis.fit;
+    if (!fit) return [];
+    if (!lf.whatIf) return fit.best.predicted.map((p) => ({ x: p.energy, sigma: p.sigma || 0, label: p.typeset, dashed: !p.spin_allowed }));
+    const { x, b } = lf.whatIf;
+    const gamma = fit.best.derived.c_over_b ? fit.best.derived.c_over_b.value : 4.5;
+    const levels = wasm_bindgen.levels(lf.n, lf.geometry, x * b / 10, b, gamma * b);
+    const ground = levels[0];
+    return levels.slice(1).filter((l) => l.energy < 50000)
+      .map((l) => ({ x: l.energy, sigma: 0, label: l.typeset, dashed: l.multiplicity !== ground.multiplicity }));
+  }
+
+  function drawDiagram() {
+    const lf = state.lf;
+    const fit = lf && lf.analysis.fit;
+    if (!fit) return;
+    const canvas = $('diagram-canvas');
+    const dpr = window.devicePixelRatio || 1;
+    const r = canvas.getBoundingClientRect();
+    canvas.width = Math.max(1, Math.round(r.width * dpr));
+    canvas.height = Math.max(1, Math.round(r.height * dpr));
+    const b = fit.best;
+    const gamma = b.derived.c_over_b ? b.derived.c_over_b.value : 4.5;
+    const xFit = lf.whatIf ? lf.whatIf.x : (b.derived.delta_over_b ? b.derived.delta_over_b.value : null);
+    const bValue = lf.whatIf ? lf.whatIf.b : (b.parameters.b ? b.parameters.b.value : null);
+    const observed = xFit != null && bValue ? b.assignment.map((a) => [xFit, a.observed / bValue]) : [];
+    const max = Math.max(40, Math.ceil((xFit || 0) * 1.25));
+    try {
+      wasm_bindgen.draw_level_diagram(canvas, lf.n, lf.geometry, gamma, max, xFit, observed, dpr);
+    } catch (e) {
+      say(`The diagram could not be drawn: ${e.message || e}`);
+    }
+    lf.diagramArgs = [lf.n, lf.geometry, gamma, max, xFit, observed];
+  }
+
+  function whatIf() {
+    if (!state.lf) return;
+    const x = parseFloat($('whatif-x').value), b = parseFloat($('whatif-b').value);
+    if (!(x > 0 && b > 0)) return;
+    state.lf.whatIf = { x, b };
+    $('whatif-x-out').textContent = x.toFixed(2);
+    drawSoon();
+    drawDiagram();
+  }
+
+  function wireLf() {
+    fillIons();
+    $('lf-analyze').addEventListener('click', analyzeSample);
+    $('whatif-x').addEventListener('input', whatIf);
+    $('whatif-b').addEventListener('input', whatIf);
+    $('whatif-reset').addEventListener('click', () => { if (state.lf) { state.lf.whatIf = null; renderLf(); draw(); } });
+    $('save-project').addEventListener('click', saveProject);
+    $('share-link').addEventListener('click', () => shareLink().catch((e) => say(`No share link: ${e.message || e}`)));
+    $('start-fresh').addEventListener('click', startFresh);
+    $('diagram-svg').addEventListener('click', () => {
+      if (!state.lf || !state.lf.diagramArgs) return;
+      const svg = wasm_bindgen.level_diagram_svg(...state.lf.diagramArgs);
+      download(new Blob([svg], { type: 'image/svg+xml' }), `${baseName()}-diagram.svg`);
+    });
+  }
+
+  // ---------- project file, share link, autosave ----------
+  // One document holds the whole workspace: the samples' data, the band and
+  // ligand-field choices and the view. The analysis itself is recomputed on
+  // load (the core is deterministic), so a link restores the same numbers.
+  const PROJECT_SCHEMA = 1;
+  const AUTOSAVE_KEY = 'ddlens-workspace';
+  const LONG_LINK = 32000; // common practice: some browsers and mail tools cut links near 32 000 characters
+
+  const lfControls = () => ({
+    ion: $('lf-ion').value, geometry: $('lf-geometry').value, c_over_b: $('lf-cb').value,
+    free_c: $('lf-free-c').checked, spin_forbidden: $('lf-spin-forbidden').checked, b0: $('lf-b0').value,
+  });
+  function setLfControls(c) {
+    $('lf-ion').value = c.ion; $('lf-geometry').value = c.geometry; $('lf-cb').value = c.c_over_b || '';
+    $('lf-free-c').checked = !!c.free_c; $('lf-spin-forbidden').checked = !!c.spin_forbidden; $('lf-b0').value = c.b0 || 'common';
+  }
+
+  function projectDoc() {
+    const keep = ['name', 'file', 'quantity', 'xUnit', 'saturated', 'metadata', 'concentration', 'path', 'colour', 'visible'];
+    const selected = state.samples.findIndex((s) => s.id === Number($('clean-target').value));
+    return {
+      ddlens_project: PROJECT_SCHEMA,
+      program: `ddlens ${wasm_bindgen.version()}`,
+      saved: new Date().toISOString(),
+      samples: state.samples.map((s) => ({ ...Object.fromEntries(keep.map((k) => [k, s[k]])), wavenumber: Array.from(s.wavenumber), values: Array.from(s.values) })),
+      selected,
+      bands: { count: $('band-count').value, shape: $('band-shape').value },
+      ligand_field: state.lf ? { controls: lfControls(), sample: state.samples.findIndex((s) => s.id === state.lf.sampleId) } : null,
+      view: state.view,
+    };
+  }
+
+  /** Replaces the workspace with a project document; throws an Error with a plain sentence. */
+  async function loadProject(doc) {
+    if (!doc || typeof doc !== 'object' || !('ddlens_project' in doc)) throw new Error('this is not a ddlens project');
+    if (!Number.isInteger(doc.ddlens_project) || doc.ddlens_project < 1) throw new Error('the project names no valid schema version');
+    if (doc.ddlens_project > PROJECT_SCHEMA) throw new Error(`the project was saved by a newer ddlens (schema ${doc.ddlens_project}); this page reads schema ${PROJECT_SCHEMA}`);
+    const ok = (a) => Array.isArray(a) && a.every(Number.isFinite);
+    if (!Array.isArray(doc.samples) || doc.samples.some((s) => !ok(s.wavenumber) || !ok(s.values) || s.wavenumber.length !== s.values.length)) {
+      throw new Error('the project is damaged: a sample has missing or unequal data');
+    }
+    edit(() => {
+      state.samples = doc.samples.map((s) => ({
+        ...s, id: state.nextId++, raw: { wavenumber: s.wavenumber, values: s.values }, processing: null, fit: null,
+        saturated: s.saturated || [], metadata: s.metadata || {}, warnings: [], colour: s.colour || PALETTE[state.nextColour++ % PALETTE.length], visible: s.visible !== false,
+      }));
+    });
+    state.lf = null;
+    if (doc.view) Object.assign(state.view, doc.view);
+    if (doc.bands) { $('band-count').value = doc.bands.count || ''; $('band-shape').value = doc.bands.shape || 'gaussian'; }
+    const pick = (i) => state.samples[i] && ($('clean-target').value = String(state.samples[i].id));
+    pick(doc.selected);
+    if (doc.ligand_field && state.samples[doc.ligand_field.sample]) {
+      setLfControls(doc.ligand_field.controls);
+      pick(doc.ligand_field.sample);
+      await analyzeSample();
+    }
+    refresh();
+  }
+
+  let autosaveTimer = null;
+  let autosaveWarned = false;
+  function autosaveSoon() {
+    clearTimeout(autosaveTimer);
+    autosaveTimer = setTimeout(() => {
+      try { localStorage.setItem(AUTOSAVE_KEY, JSON.stringify(projectDoc())); } catch (e) {
+        if (!autosaveWarned) say('This browser refused to keep the workspace (storage full or disabled): save the project file to keep your work.');
+        autosaveWarned = true;
+      }
+    }, 300);
+  }
+
+  const toB64url = (bytes) => {
+    let bin = '';
+    for (let i = 0; i < bytes.length; i += 0x8000) bin += String.fromCharCode(...bytes.subarray(i, i + 0x8000));
+    return btoa(bin).replace(/\+/g, '-').replace(/\//g, '_').replace(/=+$/, '');
+  };
+  const fromB64url = (text) => Uint8Array.from(atob(text.replace(/-/g, '+').replace(/_/g, '/')), (c) => c.charCodeAt(0));
+  const pipe = async (bytes, stream) => new Uint8Array(await new Response(new Blob([bytes]).stream().pipeThrough(stream)).arrayBuffer());
+
+  async function shareLink() {
+    const data = toB64url(await pipe(new TextEncoder().encode(JSON.stringify(projectDoc())), new CompressionStream('deflate-raw')));
+    const url = `${location.href.split('#')[0]}#project=${data}`;
+    $('share-box').hidden = false;
+    $('share-output').value = url;
+    $('share-output').select();
+    if (url.length > LONG_LINK) say(`The link is ${url.length} characters long, too long for some browsers and mail programs: send the project file (Save project) instead.`);
+    try { await navigator.clipboard.writeText(url); say('Share link copied to the clipboard.', 'info'); } catch { say('Copy the share link from the box above.', 'info'); }
+  }
+
+  async function openShareLink() {
+    const data = location.hash.slice('#project='.length);
+    let doc;
+    try {
+      doc = JSON.parse(new TextDecoder().decode(await pipe(fromB64url(data), new DecompressionStream('deflate-raw'))));
+    } catch {
+      throw new Error('The share link is damaged or incomplete: nothing was loaded.');
+    }
+    await loadProject(doc);
+  }
+
+  function saveProject() {
+    download(new Blob([JSON.stringify(projectDoc())], { type: 'application/json' }), `${baseName()}.ddlens.json`);
+  }
+
+  async function startFresh() {
+    try { localStorage.removeItem(AUTOSAVE_KEY); } catch { /* storage disabled */ }
+    state.lf = null;
+    history.past = []; history.future = [];
+    state.samples = [];
+    if (location.hash) window.history.replaceState(null, '', location.href.split('#')[0]);
+    await loadDemo();
+    history.past = [];
+    refresh();
+  }
+
   // ---------- wiring ----------
   function wire() {
     $('file-input').addEventListener('change', (e) => { openFiles([...e.target.files]); e.target.value = ''; });
@@ -678,9 +973,19 @@ const ddlens = (() => {
     wasmModule = await loadModule();
     await wasm_bindgen({ module_or_path: wasmModule });
     $('version').textContent = wasm_bindgen.version();
+    wireLf();
     worker = startWorker(wasmModule);
     await worker.ready;
-    await loadDemo();
+    // A share link wins over the autosaved workspace, which wins over the demo.
+    let saved = null;
+    try { saved = JSON.parse(localStorage.getItem(AUTOSAVE_KEY) || 'null'); } catch { saved = null; }
+    if (location.hash.startsWith('#project=')) {
+      try { await openShareLink(); } catch (e) { say(e.message); }
+    } else if (saved && Array.isArray(saved.samples) && saved.samples.length) {
+      try { await loadProject(saved); say('The previous workspace was restored (Start fresh clears it).', 'info'); } catch (e) { say(`The saved workspace could not be restored: ${e.message}`); await loadDemo(); }
+    } else {
+      await loadDemo();
+    }
     history.past = [];
     refresh();
     document.body.dataset.readyMs = performance.now().toFixed(0);

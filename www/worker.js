@@ -7,6 +7,8 @@ if (typeof wasm_bindgen === 'undefined') importScripts('ddlens_glue.js');
 const jobs = {
   version: () => wasm_bindgen.version(),
   import: (msg) => wasm_bindgen.import_spectrum(msg.bytes, msg.name, msg.options || null),
+  // The whole pipeline on one spectrum (the same function as `ddlens analyze`).
+  analyze: (msg) => wasm_bindgen.analyze(msg.spectrum, msg.options),
   // Automatic starting bands (n = 0: the core chooses), then the fit.
   fit: (msg, progress) => {
     const bands = wasm_bindgen.guess_bands(msg.x, msg.y, msg.n || 0).map((b) => ({ ...b, shape: msg.shape || b.shape }));

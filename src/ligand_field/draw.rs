@@ -80,7 +80,7 @@ pub fn draw_diagram<DB: DrawingBackend>(
     let mut chart = ChartBuilder::on(root)
         .caption(
             format!(
-                "{} {} — C/B = {}",
+                "{} {} — C/B = {:.2}",
                 diagram.config, diagram.geometry, diagram.c_over_b
             ),
             ("sans-serif", px(16.0)),

@@ -320,7 +320,10 @@ impl Model {
         self.blocks
             .iter()
             .map(|block| {
-                let h = &block.v * p.dq + &block.kb * p.b + &block.kc * p.c;
+                // One allocation: H = Dq·V + B·K_B + C·K_C element by element.
+                let h = DMatrix::from_fn(block.v.nrows(), block.v.ncols(), |i, j| {
+                    block.v[(i, j)] * p.dq + block.kb[(i, j)] * p.b + block.kc[(i, j)] * p.c
+                });
                 let mut e: Vec<f64> = h.symmetric_eigenvalues().iter().copied().collect();
                 e.sort_by(f64::total_cmp);
                 e

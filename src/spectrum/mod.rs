@@ -83,6 +83,7 @@ impl std::fmt::Display for Warning {
 
 /// Choices the user can force instead of the reader's detection.
 #[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+#[serde(default)]
 pub struct ImportOptions {
     /// The x unit of the file, overriding headers and labels.
     pub x_unit: Option<XUnit>,

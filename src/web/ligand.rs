@@ -12,7 +12,8 @@ use wasm_bindgen::prelude::*;
 use web_sys::HtmlCanvasElement;
 
 fn geometry(text: &str) -> Result<Geometry, JsError> {
-    text.parse().map_err(|e: ligand_field::LfError| JsError::new(&e.to_string()))
+    text.parse()
+        .map_err(|e: ligand_field::LfError| JsError::new(&e.to_string()))
 }
 
 /// Every ion of the table with its dⁿ and free-ion parameters (and their sources).
@@ -55,7 +56,9 @@ pub fn analyze(spectrum: JsValue, options: JsValue) -> Result<JsValue, JsError> 
         metadata: Default::default(),
         warnings: Vec::new(),
     };
-    to_js(&pipeline::analyze_spectrum(&spectrum, &opts, &mut |_| true)?)
+    to_js(&pipeline::analyze_spectrum(&spectrum, &opts, &mut |_| {
+        true
+    })?)
 }
 
 /// The assignment search and fit for given band maxima (after the user edits the assignment).
@@ -75,8 +78,20 @@ fn diagram_and_style(
     scale: f64,
 ) -> Result<(ligand_field::Diagram, DiagramStyle), JsError> {
     let d = ligand_field::diagram(n, geometry(geometry_name)?, c_over_b, max_delta_over_b, 300)?;
-    let observed: Vec<[f64; 2]> = if observed.is_undefined() || observed.is_null() { Vec::new() } else { from_js(observed, "the observed points")? };
-    Ok((d, DiagramStyle { scale, fitted_delta_over_b: fitted, observed, ..DiagramStyle::default() }))
+    let observed: Vec<[f64; 2]> = if observed.is_undefined() || observed.is_null() {
+        Vec::new()
+    } else {
+        from_js(observed, "the observed points")?
+    };
+    Ok((
+        d,
+        DiagramStyle {
+            scale,
+            fitted_delta_over_b: fitted,
+            observed,
+            ..DiagramStyle::default()
+        },
+    ))
 }
 
 /// Draws the energy-level diagram (E/B against Δ/B) on a canvas sized CSS × `scale`;
@@ -93,8 +108,17 @@ pub fn draw_level_diagram(
     observed: JsValue,
     scale: f64,
 ) -> Result<JsValue, JsError> {
-    let (d, style) = diagram_and_style(n, geometry_name, c_over_b, max_delta_over_b, fitted, observed, scale.clamp(0.5, 8.0))?;
-    let backend = CanvasBackend::with_canvas_object(canvas).ok_or_else(|| JsError::new("the canvas has no 2D context"))?;
+    let (d, style) = diagram_and_style(
+        n,
+        geometry_name,
+        c_over_b,
+        max_delta_over_b,
+        fitted,
+        observed,
+        scale.clamp(0.5, 8.0),
+    )?;
+    let backend = CanvasBackend::with_canvas_object(canvas)
+        .ok_or_else(|| JsError::new("the canvas has no 2D context"))?;
     draw_diagram(&backend.into_drawing_area(), &d, &style)?;
     to_js(&d)
 }
@@ -109,10 +133,19 @@ pub fn level_diagram_svg(
     fitted: Option<f64>,
     observed: JsValue,
 ) -> Result<String, JsError> {
-    let (d, style) = diagram_and_style(n, geometry_name, c_over_b, max_delta_over_b, fitted, observed, 1.0)?;
+    let (d, style) = diagram_and_style(
+        n,
+        geometry_name,
+        c_over_b,
+        max_delta_over_b,
+        fitted,
+        observed,
+        1.0,
+    )?;
     let mut out = String::new();
     {
-        let root = plotters::prelude::SVGBackend::with_string(&mut out, (900, 700)).into_drawing_area();
+        let root =
+            plotters::prelude::SVGBackend::with_string(&mut out, (900, 700)).into_drawing_area();
         draw_diagram(&root, &d, &style)?;
     }
     Ok(out)

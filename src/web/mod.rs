@@ -6,6 +6,8 @@
 //! plain sentence. Plotting runs on the main thread (plotters measures text
 //! through the DOM); heavy computation runs in the worker's own instance.
 
+mod ligand;
+
 use crate::plot::spectrum::{self as spectrum_plot, SpectrumFigure};
 use plotters::prelude::IntoDrawingArea;
 use plotters_canvas::CanvasBackend;
