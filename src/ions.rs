@@ -316,6 +316,77 @@ fn parse_charge(rest: &str) -> Option<u8> {
     }
 }
 
+/// A ligand's Jørgensen factors: 10Dq ≈ f·g(metal), 1 − β ≈ h·k(metal).
+/// Values: Jørgensen, *Modern Aspects of Ligand Field Theory* (1971)
+/// pp. 347–348, as tabulated with Jolly's free-ion B (teaching-site copy).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Ligand {
+    pub name: &'static str,
+    pub f: f64,
+    pub h: Option<f64>,
+}
+
+const LIGANDS: &[(&str, f64, Option<f64>)] = &[
+    ("Br-", 0.72, Some(2.3)),
+    ("SCN-", 0.75, None),
+    ("Cl-", 0.78, Some(2.0)),
+    ("N3-", 0.83, None),
+    ("F-", 0.90, Some(0.8)),
+    ("DMSO", 0.91, None),
+    ("acetone", 0.92, Some(1.2)),
+    ("EtOH", 0.97, None),
+    ("DMF", 0.98, None),
+    ("ox", 0.99, Some(1.5)),
+    ("H2O", 1.00, Some(1.0)),
+    ("thiourea", 1.01, Some(2.0)),
+    ("NCS-", 1.02, None),
+    ("gly", 1.18, Some(2.0)),
+    ("CH3CN", 1.22, None),
+    ("py", 1.23, None),
+    ("NH3", 1.25, Some(1.4)),
+    ("en", 1.28, Some(1.5)),
+    ("bipy", 1.33, None),
+    ("NO2-", 1.4, None),
+    ("CN-", 1.7, Some(2.0)),
+];
+
+/// Every ligand of Jørgensen's table.
+pub fn all_ligands() -> Vec<Ligand> {
+    LIGANDS
+        .iter()
+        .map(|&(name, f, h)| Ligand { name, f, h })
+        .collect()
+}
+
+/// Looks a ligand up by name (case-insensitive; "Cl" finds "Cl-").
+pub fn ligand(name: &str) -> Option<Ligand> {
+    let want = name.trim().trim_end_matches('-').to_ascii_lowercase();
+    all_ligands()
+        .into_iter()
+        .find(|l| l.name.trim_end_matches('-').to_ascii_lowercase() == want)
+}
+
+/// Jørgensen's rule-of-thumb estimates for an ion with one kind of ligand.
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
+pub struct JorgensenEstimate {
+    pub ligand: String,
+    /// 10Dq ≈ f·g, cm⁻¹.
+    pub delta: Option<f64>,
+    /// β ≈ 1 − h·k.
+    pub beta: Option<f64>,
+    pub source: String,
+}
+
+/// The estimates, where the table has the factors (see [`Ligand`]).
+pub fn jorgensen(ion: &Ion, ligand: &Ligand) -> JorgensenEstimate {
+    JorgensenEstimate {
+        ligand: ligand.name.to_string(),
+        delta: ion.jorgensen_g.map(|g| ligand.f * g),
+        beta: ion.jorgensen_k.zip(ligand.h).map(|(k, h)| 1.0 - h * k),
+        source: "Jørgensen 1971, f·g and 1 − h·k (rule of thumb)".to_string(),
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -352,6 +423,22 @@ mod tests {
                 i.symbol
             );
         }
+    }
+
+    #[test]
+    fn jorgensen_rules_reproduce_the_worked_checks() {
+        // [Cr(H2O)6]3+: f·g = 17 400 and β = 1 − 1.0·0.21 = 0.79; [FeF6]3−:
+        // 1 − β = 0.8·0.24 = 0.19 (reference notes §6, worked checks against S1/S16/S53).
+        let cr = jorgensen(&ion("Cr3+").unwrap(), &ligand("H2O").unwrap());
+        assert_eq!(cr.delta, Some(17400.0));
+        assert!((cr.beta.unwrap() - 0.79).abs() < 1e-12);
+        let fe = jorgensen(&ion("Fe3+").unwrap(), &ligand("F").unwrap());
+        assert!((1.0 - fe.beta.unwrap() - 0.19).abs() < 0.005); // 0.192, quoted as 0.19
+        assert!(ligand("unobtainium").is_none());
+        assert_eq!(
+            jorgensen(&ion("Ti3+").unwrap(), &ligand("H2O").unwrap()).delta,
+            None
+        );
     }
 
     #[test]

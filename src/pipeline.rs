@@ -50,6 +50,9 @@ pub struct LigandFieldOptions {
     pub spin_forbidden: bool,
     #[serde(default)]
     pub b0_source: Option<String>,
+    /// The ligand, for Jørgensen's estimates.
+    #[serde(default)]
+    pub ligand: Option<String>,
 }
 
 /// Every choice of an analysis.
@@ -325,6 +328,7 @@ pub fn analyze_spectrum(
             spin_forbidden: lf.spin_forbidden || narrow,
             b0_source: lf.b0_source.clone(),
             max_prediction: None,
+            ligand: lf.ligand.clone(),
             observed_from: s
                 .wavenumber
                 .first()

@@ -366,3 +366,29 @@ fn bad_input_gives_plain_errors() {
     .unwrap_err();
     assert!(e.to_string().contains("C/B"));
 }
+
+#[test]
+fn jorgensen_estimate_is_shown_next_to_the_fit() {
+    // 10Dq ≈ f·g and β ≈ 1 − h·k (Jørgensen 1971): for Cr³⁺ in water 17 400 and 0.79,
+    // close to the fitted values of the aqua ion (reference notes §6).
+    let req = FitRequest {
+        ion: Some("Cr3+".into()),
+        ligand: Some("H2O".into()),
+        bands: bands(&[17400.0, 24600.0]),
+        ..Default::default()
+    };
+    let out = fit(&req).unwrap();
+    let j = out.jorgensen.unwrap();
+    assert_eq!(j.delta, Some(17400.0));
+    assert!((j.beta.unwrap() - out.best.derived.beta.unwrap().value).abs() < 0.03);
+    let none = fit(&FitRequest {
+        ion: Some("Cr3+".into()),
+        ligand: Some("XYZ".into()),
+        bands: bands(&[17400.0, 24600.0]),
+        ..Default::default()
+    })
+    .unwrap();
+    assert!(
+        none.jorgensen.is_none() && none.warnings.iter().any(|w| w.contains("not in Jørgensen"))
+    );
+}

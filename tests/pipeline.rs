@@ -49,6 +49,7 @@ fn check(n: u8, geometry: Geometry, p: Params, k: usize) {
             free_c: false,
             spin_forbidden: false,
             b0_source: None,
+            ligand: None,
         }),
         ..AnalysisOptions::default()
     };

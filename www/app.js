@@ -645,6 +645,12 @@ const ddlens = (() => {
       sel.append(o);
     }
     sel.value = 'Cr3+';
+    for (const l of wasm_bindgen.ligands()) {
+      const o = document.createElement('option');
+      o.value = l.name;
+      o.textContent = l.name;
+      $('lf-ligand').append(o);
+    }
   }
 
   function lfOptions() {
@@ -659,6 +665,7 @@ const ddlens = (() => {
         c_over_b: Number.isFinite(cb) ? cb : null,
         free_c: $('lf-free-c').checked, spin_forbidden: $('lf-spin-forbidden').checked,
         b0_source: $('lf-b0').value,
+        ligand: $('lf-ligand').value || null,
       },
     };
   }
@@ -706,6 +713,10 @@ const ddlens = (() => {
     row(card, ['Dq/B', fmt(d.dq_over_b)], true);
     const margin = b.spin.margin != null ? ` — spin change at Δ/B = ${b.spin.spin_change_delta_over_b.toFixed(2)} (margin ${b.spin.margin >= 0 ? '+' : ''}${b.spin.margin.toFixed(2)})` : '';
     row(card, ['ground state', `${b.ground_typeset}, ${b.spin.state}${margin}`], true);
+    if (fit.jorgensen) {
+      const j = fit.jorgensen;
+      row(card, [`Jørgensen estimate (${j.ligand})`, `Δ ≈ ${j.delta ? j.delta.toFixed(0) + ' cm⁻¹' : '—'}, β ≈ ${j.beta ? j.beta.toFixed(2) : '—'} (${j.source})`], true);
+    }
     row(card, ['χ²', `${b.chi2.toPrecision(3)} (${b.degrees_of_freedom} degrees of freedom)`], true);
     const at = $('lf-assignment').tBodies[0];
     at.replaceChildren();
@@ -803,11 +814,11 @@ const ddlens = (() => {
 
   const lfControls = () => ({
     ion: $('lf-ion').value, geometry: $('lf-geometry').value, c_over_b: $('lf-cb').value,
-    free_c: $('lf-free-c').checked, spin_forbidden: $('lf-spin-forbidden').checked, b0: $('lf-b0').value,
+    free_c: $('lf-free-c').checked, spin_forbidden: $('lf-spin-forbidden').checked, b0: $('lf-b0').value, ligand: $('lf-ligand').value,
   });
   function setLfControls(c) {
     $('lf-ion').value = c.ion; $('lf-geometry').value = c.geometry; $('lf-cb').value = c.c_over_b || '';
-    $('lf-free-c').checked = !!c.free_c; $('lf-spin-forbidden').checked = !!c.spin_forbidden; $('lf-b0').value = c.b0 || 'common';
+    $('lf-free-c').checked = !!c.free_c; $('lf-spin-forbidden').checked = !!c.spin_forbidden; $('lf-b0').value = c.b0 || 'common'; $('lf-ligand').value = c.ligand || '';
   }
 
   function projectDoc() {

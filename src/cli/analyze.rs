@@ -25,6 +25,7 @@ OPTIONS:
     --free-c             fit C too (needs three or more bands)
     --spin-forbidden     consider spin-forbidden transitions
     --b0-source NAME     free-ion table for β: common or jolly
+    --ligand L           the ligand (e.g. H2O, NH3, Cl-) for Jørgensen's estimates
     --json               machine-readable output
 ";
 
@@ -100,6 +101,7 @@ pub fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
         free_c: args.flag("--free-c"),
         spin_forbidden: args.flag("--spin-forbidden"),
         b0_source: args.value("--b0-source")?,
+        ligand: args.value("--ligand")?,
     };
     if lf.ion.is_none() && lf.n.is_none() {
         return Err(CliError::Usage(

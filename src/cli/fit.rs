@@ -20,6 +20,7 @@ OPTIONS:
     --free-c             fit C too (three or more bands)
     --spin-forbidden     consider spin-forbidden (ΔS = ±1) transitions
     --b0-source NAME     free-ion table for β: common or jolly
+    --ligand L           the ligand (e.g. H2O, NH3, Cl-) for Jørgensen's estimates
     --observed-from E    the spectrum starts at E cm⁻¹: lower transitions could not be seen
     --max-prediction E   predict transitions up to E cm⁻¹ (default 50 000)
     --json               machine-readable output
@@ -73,6 +74,7 @@ pub fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
         spin_forbidden: args.flag("--spin-forbidden"),
         b0_source: args.value("--b0-source")?,
         max_prediction: args.number("--max-prediction")?,
+        ligand: args.value("--ligand")?,
         observed_from: args.number("--observed-from")?,
     };
     args.finish()?;
@@ -154,6 +156,14 @@ pub fn print_outcome(o: &FitOutcome) {
     }
     for w in o.best.warnings.iter().chain(&o.warnings) {
         println!("  warning: {w}");
+    }
+    if let Some(j) = &o.jorgensen {
+        let d = j.delta.map_or("—".into(), |v| format!("{v:.0} cm⁻¹"));
+        let b = j.beta.map_or("—".into(), |v| format!("{v:.2}"));
+        println!(
+            "  Jørgensen estimate with {}: Δ ≈ {d}, β ≈ {b} ({})",
+            j.ligand, j.source
+        );
     }
     if !o.alternatives.is_empty() {
         println!("alternatives:");

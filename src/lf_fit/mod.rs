@@ -95,6 +95,9 @@ pub struct FitRequest {
     /// Predict transitions up to this energy, cm⁻¹ (default 50 000).
     #[serde(default)]
     pub max_prediction: Option<f64>,
+    /// The ligand (one kind), for Jørgensen's estimates shown next to the fit.
+    #[serde(default)]
+    pub ligand: Option<String>,
     /// The lowest energy the spectrum covers, cm⁻¹: transitions below it cannot
     /// have been seen, so leaving them unassigned costs nothing in the ranking.
     #[serde(default)]
@@ -113,6 +116,7 @@ impl Default for FitRequest {
             spin_forbidden: false,
             b0_source: None,
             max_prediction: None,
+            ligand: None,
             observed_from: None,
         }
     }
@@ -212,6 +216,8 @@ pub struct FitOutcome {
     pub alternatives: Vec<Solution>,
     /// About the search as a whole (e.g. the data cannot tell assignments apart).
     pub warnings: Vec<String>,
+    /// Jørgensen's rule-of-thumb Δ and β for the ion and ligand, when both are known.
+    pub jorgensen: Option<ions::JorgensenEstimate>,
 }
 
 /// Why no fit could be made.
@@ -438,9 +444,23 @@ pub fn fit(req: &FitRequest) -> Result<FitOutcome, LfFitError> {
             ));
         }
     }
+    let jorgensen = match (&req.ion, &req.ligand) {
+        (Some(i), Some(l)) => match (ions::ion(i), ions::ligand(l)) {
+            (Some(i), Some(l)) => Some(ions::jorgensen(&i, &l)),
+            (_, None) => {
+                warnings.push(format!(
+                    "ligand '{l}' is not in Jørgensen's table: no estimate"
+                ));
+                None
+            }
+            _ => None,
+        },
+        _ => None,
+    };
     Ok(FitOutcome {
         best,
         alternatives,
         warnings,
+        jorgensen,
     })
 }

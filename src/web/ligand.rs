@@ -22,6 +22,12 @@ pub fn ions() -> Result<JsValue, JsError> {
     to_js(&crate::ions::all_ions())
 }
 
+/// Jørgensen's ligand table (f and h).
+#[wasm_bindgen]
+pub fn ligands() -> Result<JsValue, JsError> {
+    to_js(&crate::ions::all_ligands())
+}
+
 /// All levels of dⁿ at (Dq, B, C), lowest first.
 #[wasm_bindgen]
 pub fn levels(n: u8, geometry_name: &str, dq: f64, b: f64, c: f64) -> Result<JsValue, JsError> {
