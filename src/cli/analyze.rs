@@ -2,7 +2,7 @@
 //! the whole pipeline (the same function the browser calls).
 
 use super::{Args, CliError};
-use crate::ligand_field::{parse_configuration, Geometry};
+use crate::ligand_field::parse_configuration;
 use crate::pipeline::{self, AnalysisOptions, BandCount, LigandFieldOptions};
 use crate::spectrum::XUnit;
 
@@ -40,12 +40,7 @@ pub fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
         .map(|c| parse_configuration(&c))
         .transpose()
         .map_err(|e| CliError::Usage(e.to_string()))?;
-    let geometry: Geometry = match args.value("--geometry")? {
-        Some(g) => g
-            .parse()
-            .map_err(|e: crate::ligand_field::LfError| CliError::Usage(e.to_string()))?,
-        None => Geometry::Octahedral,
-    };
+    let geometry = super::geometry_option(args)?;
     let mut opts = AnalysisOptions::default();
     if let Some(b) = args.value("--bands")? {
         opts.bands =

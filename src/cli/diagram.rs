@@ -1,7 +1,7 @@
 //! `ddlens diagram`: E/B against Δ/B at fixed C/B as JSON, CSV or SVG.
 
 use super::{print_json, Args, CliError};
-use crate::ligand_field::{diagram, draw_diagram, parse_configuration, DiagramStyle, Geometry};
+use crate::ligand_field::{diagram, draw_diagram, parse_configuration, DiagramStyle};
 use plotters::prelude::{IntoDrawingArea, SVGBackend};
 
 const HELP: &str = "\
@@ -20,12 +20,7 @@ pub fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
     let config = args
         .value("--config")?
         .ok_or_else(|| CliError::Usage("--config is required (d1 … d9)".into()))?;
-    let geometry: Geometry = args
-        .value("--geometry")?
-        .as_deref()
-        .unwrap_or("octahedral")
-        .parse()
-        .map_err(|e: crate::ligand_field::LfError| CliError::Usage(e.to_string()))?;
+    let geometry = super::geometry_option(args)?;
     let c_over_b = args.number("--c-over-b")?.unwrap_or(4.5);
     let max = args.number("--max")?.unwrap_or(40.0);
     let points = args.number("--points")?.unwrap_or(400.0);

@@ -3,7 +3,7 @@
 
 use super::{Args, CliError};
 use crate::lf_fit::{self, FitOutcome, FitRequest, ObservedBand, Solution};
-use crate::ligand_field::{parse_configuration, Geometry};
+use crate::ligand_field::parse_configuration;
 
 const HELP: &str = "\
 ddlens fit [OPTIONS] --band E[:SIGMA] --band …
@@ -53,12 +53,7 @@ pub fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
         None if ion.is_some() => 0,
         None => return Err(CliError::Usage("give --config dN or --ion".into())),
     };
-    let geometry: Geometry = match args.value("--geometry")? {
-        Some(g) => g
-            .parse()
-            .map_err(|e: crate::ligand_field::LfError| CliError::Usage(e.to_string()))?,
-        None => Geometry::Octahedral,
-    };
+    let geometry = super::geometry_option(args)?;
     let bands = args
         .values("--band")?
         .iter()

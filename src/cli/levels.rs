@@ -4,7 +4,7 @@
 //! SymPy reference check, tests/reference/check_angular.py).
 
 use super::{print_json, Args, CliError};
-use crate::ligand_field::{ck, model, parse_configuration, Geometry, Params};
+use crate::ligand_field::{ck, model, parse_configuration, Params};
 use serde_json::json;
 
 const HELP: &str = "\
@@ -32,12 +32,7 @@ pub fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
     let config = args
         .value("--config")?
         .ok_or_else(|| CliError::Usage("--config is required (d1 … d9)".into()))?;
-    let geometry: Geometry = args
-        .value("--geometry")?
-        .as_deref()
-        .unwrap_or("octahedral")
-        .parse()
-        .map_err(|e: crate::ligand_field::LfError| CliError::Usage(e.to_string()))?;
+    let geometry = super::geometry_option(args)?;
     let params = Params {
         dq: args.required_number("--dq")?,
         b: args.required_number("--b")?,

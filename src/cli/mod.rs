@@ -83,6 +83,15 @@ fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
     }
 }
 
+/// Reads `--geometry` (default octahedral).
+pub(crate) fn geometry_option(args: &mut Args) -> Result<crate::ligand_field::Geometry, CliError> {
+    args.value("--geometry")?
+        .as_deref()
+        .unwrap_or("octahedral")
+        .parse()
+        .map_err(|e: crate::ligand_field::LfError| CliError::Usage(e.to_string()))
+}
+
 /// Prints a serializable value as one line of JSON.
 #[allow(dead_code)] // used by the subcommands as they land
 pub(crate) fn print_json<T: serde::Serialize>(value: &T) -> Result<(), CliError> {
