@@ -9,25 +9,10 @@
 //!    crossings either side of a minimum are ±σ: FWHM = 2√(2 ln 2)·σ (CALC).
 //! 4. Heights come from non-negative least squares (Lawson & Hanson 1974)
 //!    with centres and widths fixed and a free constant offset.
-//!
-//! A private, small SG implementation; TODO(lead): dedupe with
-//! `crate::spectrum::preprocess::savgol` once merged.
 
 use super::{BandSpec, Shape};
+use crate::spectrum::preprocess::savgol;
 use nalgebra::{DMatrix, DVector};
-
-/// Savitzky–Golay second-derivative weights (unit spacing) for a window of
-/// 2·half+1 points and a quadratic.
-fn savgol_second_derivative(half: usize) -> Vec<f64> {
-    let k = 2 * half + 1;
-    let v = DMatrix::from_fn(k, 3, |i, j| (i as f64 - half as f64).powi(j as i32));
-    let vtv = v.transpose() * &v;
-    let Some(inv) = vtv.try_inverse() else {
-        return vec![0.0; k];
-    };
-    let pinv = inv * v.transpose();
-    (0..k).map(|i| 2.0 * pinv[(2, i)]).collect()
-}
 
 /// Starting bands (Gaussian) for `n` bands, or as many as the data suggest.
 /// Returns an empty list when the data are too short or not finite.
@@ -58,15 +43,9 @@ pub fn guess(x: &[f64], y: &[f64], n: Option<usize>) -> Vec<BandSpec> {
         grid_y.push(a.1 + t * (b.1 - a.1));
     }
     let half = (m / 25).max(3).min((m - 1) / 2);
-    let coeffs = savgol_second_derivative(half);
-    let mut d2 = vec![0.0; m];
-    for (i, slot) in d2.iter_mut().enumerate().take(m - half).skip(half) {
-        *slot = coeffs
-            .iter()
-            .enumerate()
-            .map(|(j, c)| c * grid_y[i + j - half])
-            .sum::<f64>();
-    }
+    let Ok(d2) = savgol(&grid_y, 2 * half + 1, 2, 2) else {
+        return Vec::new();
+    };
     let mut minima: Vec<(usize, f64)> = (half + 1..m.saturating_sub(half + 1))
         .filter(|&i| d2[i] < 0.0 && d2[i] <= d2[i - 1] && d2[i] < d2[i + 1])
         .map(|i| (i, -d2[i]))
