@@ -22,7 +22,6 @@
 
 use crate::bands::{self, BandFit, BandModel, BaselineModel, FitOptions, Shape};
 use crate::lf_fit::{self, FitOutcome, FitRequest, LfFitError, ObservedBand};
-use crate::ligand_field::Geometry;
 use crate::spectrum::{self, preprocess, ImportOptions, Quantity, Spectrum, Warning, XUnit};
 use serde::{Deserialize, Serialize};
 use std::fmt;
@@ -34,25 +33,6 @@ pub enum BandCount {
     /// Chosen by BIC among 1…max.
     Auto(usize),
     Fixed(usize),
-}
-
-/// The ligand-field part of an analysis.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-pub struct LigandFieldOptions {
-    pub ion: Option<String>,
-    /// n of dⁿ when no ion is given.
-    pub n: Option<u8>,
-    pub geometry: Geometry,
-    pub c_over_b: Option<f64>,
-    #[serde(default)]
-    pub free_c: bool,
-    #[serde(default)]
-    pub spin_forbidden: bool,
-    #[serde(default)]
-    pub b0_source: Option<String>,
-    /// The ligand, for Jørgensen's estimates.
-    #[serde(default)]
-    pub ligand: Option<String>,
 }
 
 /// Every choice of an analysis.
@@ -70,9 +50,11 @@ pub struct AnalysisOptions {
     pub shape: Shape,
     pub baseline: BaselineModel,
     pub max_iterations: usize,
-    /// Without it, the analysis stops after the band table.
+    /// The ligand-field choices; its `bands` and `observed_from` are filled
+    /// from the band table and the spectrum. Without it the analysis stops
+    /// after the band table.
     #[serde(default)]
-    pub ligand_field: Option<LigandFieldOptions>,
+    pub ligand_field: Option<FitRequest>,
 }
 
 impl Default for AnalysisOptions {
@@ -319,21 +301,14 @@ pub fn analyze_spectrum(
             warnings.push(format!("a band narrower than {NARROW_BAND:.0} cm⁻¹ was found: spin-forbidden transitions were considered too"));
         }
         let mut req = FitRequest {
-            n: lf.n.unwrap_or(0),
-            geometry: lf.geometry,
-            ion: lf.ion.clone(),
             bands: observed.clone(),
-            c_over_b: lf.c_over_b,
-            free_c: lf.free_c,
             spin_forbidden: lf.spin_forbidden || narrow,
-            b0_source: lf.b0_source.clone(),
-            max_prediction: None,
-            ligand: lf.ligand.clone(),
             observed_from: s
                 .wavenumber
                 .first()
                 .copied()
                 .map(|lo| opts.range.map_or(lo, |r| lo.max(r[0]))),
+            ..lf.clone()
         };
         loop {
             match lf_fit::fit(&req) {

@@ -2,8 +2,9 @@
 //! engine itself: the parameters must come back within their stated
 //! uncertainties (a self-consistency check of import → bands → fit).
 
+use ddlens::lf_fit::FitRequest;
 use ddlens::ligand_field::{model, Geometry, Params};
-use ddlens::pipeline::{analyze_file, AnalysisOptions, BandCount, LigandFieldOptions};
+use ddlens::pipeline::{analyze_file, AnalysisOptions, BandCount};
 
 /// A CSV in nm (descending, 1 nm steps, as instruments write it) with Gaussian
 /// bands in wavenumber at the first `k` spin-allowed transitions, a sloping
@@ -41,15 +42,11 @@ fn check(n: u8, geometry: Geometry, p: Params, k: usize) {
     let (csv, centres) = synthetic(n, geometry, p, k);
     let opts = AnalysisOptions {
         bands: BandCount::Fixed(centres.len()),
-        ligand_field: Some(LigandFieldOptions {
-            ion: None,
-            n: Some(n),
+        ligand_field: Some(FitRequest {
+            n,
             geometry,
             c_over_b: Some(p.c / p.b),
-            free_c: false,
-            spin_forbidden: false,
-            b0_source: None,
-            ligand: None,
+            ..FitRequest::default()
         }),
         ..AnalysisOptions::default()
     };

@@ -661,7 +661,7 @@ const ddlens = (() => {
       bands: Number.isFinite(n) && n > 0 ? { fixed: n } : { auto: 6 },
       shape: $('band-shape').value, baseline: 'linear', max_iterations: 200,
       ligand_field: {
-        ion: $('lf-ion').value, n: null, geometry: $('lf-geometry').value,
+        ion: $('lf-ion').value, geometry: $('lf-geometry').value,
         c_over_b: Number.isFinite(cb) ? cb : null,
         free_c: $('lf-free-c').checked, spin_forbidden: $('lf-spin-forbidden').checked,
         b0_source: $('lf-b0').value,

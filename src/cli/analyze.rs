@@ -2,8 +2,9 @@
 //! the whole pipeline (the same function the browser calls).
 
 use super::{Args, CliError};
+use crate::lf_fit::FitRequest;
 use crate::ligand_field::parse_configuration;
-use crate::pipeline::{self, AnalysisOptions, BandCount, LigandFieldOptions};
+use crate::pipeline::{self, AnalysisOptions, BandCount};
 use crate::spectrum::XUnit;
 
 const HELP: &str = "\
@@ -88,17 +89,18 @@ pub fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
             }
         });
     }
-    let lf = LigandFieldOptions {
+    let lf = FitRequest {
         ion,
-        n,
+        n: n.unwrap_or(0),
         geometry,
         c_over_b: args.number("--c-over-b")?,
         free_c: args.flag("--free-c"),
         spin_forbidden: args.flag("--spin-forbidden"),
         b0_source: args.value("--b0-source")?,
         ligand: args.value("--ligand")?,
+        ..FitRequest::default()
     };
-    if lf.ion.is_none() && lf.n.is_none() {
+    if lf.ion.is_none() && n.is_none() {
         return Err(CliError::Usage(
             "give the ion (--ion Cr3+) or the configuration (--config d3)".into(),
         ));

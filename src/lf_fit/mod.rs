@@ -74,11 +74,13 @@ impl ObservedBand {
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct FitRequest {
     /// n of dⁿ; taken from `ion` when that is given.
+    #[serde(default)]
     pub n: u8,
     pub geometry: Geometry,
     /// "Cr3+": gives n, B₀ for β and the default C/B.
     #[serde(default)]
     pub ion: Option<String>,
+    #[serde(default)]
     pub bands: Vec<ObservedBand>,
     /// C/B held fixed (default: the ion's free-ion C₀/B₀, else 4.5).
     #[serde(default)]
