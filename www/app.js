@@ -770,12 +770,12 @@ const ddlens = (() => {
     const bValue = lf.whatIf ? lf.whatIf.b : (b.parameters.b ? b.parameters.b.value : null);
     const observed = xFit != null && bValue ? b.assignment.map((a) => [xFit, a.observed / bValue]) : [];
     const max = Math.max(40, Math.ceil((xFit || 0) * 1.25));
+    lf.diagram = { n: lf.n, geometry: lf.geometry, c_over_b: gamma, max_delta_over_b: max, fitted: xFit, observed };
     try {
-      wasm_bindgen.draw_level_diagram(canvas, lf.n, lf.geometry, gamma, max, xFit, observed, dpr);
+      wasm_bindgen.draw_level_diagram(canvas, lf.diagram, dpr);
     } catch (e) {
       say(`The diagram could not be drawn: ${e.message || e}`);
     }
-    lf.diagramArgs = [lf.n, lf.geometry, gamma, max, xFit, observed];
   }
 
   function whatIf() {
@@ -798,8 +798,8 @@ const ddlens = (() => {
     $('share-link').addEventListener('click', () => shareLink().catch((e) => say(`No share link: ${e.message || e}`)));
     $('start-fresh').addEventListener('click', startFresh);
     $('diagram-svg').addEventListener('click', () => {
-      if (!state.lf || !state.lf.diagramArgs) return;
-      const svg = wasm_bindgen.level_diagram_svg(...state.lf.diagramArgs);
+      if (!state.lf || !state.lf.diagram) return;
+      const svg = wasm_bindgen.level_diagram_svg(state.lf.diagram);
       download(new Blob([svg], { type: 'image/svg+xml' }), `${baseName()}-diagram.svg`);
     });
   }

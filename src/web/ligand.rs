@@ -74,27 +74,39 @@ pub fn fit_ligand_field(request: JsValue) -> Result<JsValue, JsError> {
     to_js(&crate::lf_fit::fit(&req)?)
 }
 
-fn diagram_and_style(
+/// What the page asks a diagram for.
+#[derive(Deserialize)]
+struct DiagramRequest {
     n: u8,
-    geometry_name: &str,
+    geometry: String,
     c_over_b: f64,
     max_delta_over_b: f64,
+    /// The fitted (or what-if) Δ/B, drawn as a vertical line.
+    #[serde(default)]
     fitted: Option<f64>,
-    observed: JsValue,
+    /// Observed bands as (Δ/B, E/B).
+    #[serde(default)]
+    observed: Vec<[f64; 2]>,
+}
+
+fn diagram_and_style(
+    request: JsValue,
     scale: f64,
 ) -> Result<(ligand_field::Diagram, DiagramStyle), JsError> {
-    let d = ligand_field::diagram(n, geometry(geometry_name)?, c_over_b, max_delta_over_b, 300)?;
-    let observed: Vec<[f64; 2]> = if observed.is_undefined() || observed.is_null() {
-        Vec::new()
-    } else {
-        from_js(observed, "the observed points")?
-    };
+    let r: DiagramRequest = from_js(request, "the diagram request")?;
+    let d = ligand_field::diagram(
+        r.n,
+        geometry(&r.geometry)?,
+        r.c_over_b,
+        r.max_delta_over_b,
+        300,
+    )?;
     Ok((
         d,
         DiagramStyle {
             scale,
-            fitted_delta_over_b: fitted,
-            observed,
+            fitted_delta_over_b: r.fitted,
+            observed: r.observed,
             ..DiagramStyle::default()
         },
     ))
@@ -103,26 +115,12 @@ fn diagram_and_style(
 /// Draws the energy-level diagram (E/B against Δ/B) on a canvas sized CSS × `scale`;
 /// returns the curves (for hover read-outs).
 #[wasm_bindgen]
-#[allow(clippy::too_many_arguments)]
 pub fn draw_level_diagram(
     canvas: HtmlCanvasElement,
-    n: u8,
-    geometry_name: &str,
-    c_over_b: f64,
-    max_delta_over_b: f64,
-    fitted: Option<f64>,
-    observed: JsValue,
+    request: JsValue,
     scale: f64,
 ) -> Result<JsValue, JsError> {
-    let (d, style) = diagram_and_style(
-        n,
-        geometry_name,
-        c_over_b,
-        max_delta_over_b,
-        fitted,
-        observed,
-        scale.clamp(0.5, 8.0),
-    )?;
+    let (d, style) = diagram_and_style(request, scale.clamp(0.5, 8.0))?;
     let backend = CanvasBackend::with_canvas_object(canvas)
         .ok_or_else(|| JsError::new("the canvas has no 2D context"))?;
     draw_diagram(&backend.into_drawing_area(), &d, &style)?;
@@ -131,23 +129,8 @@ pub fn draw_level_diagram(
 
 /// The same diagram as an SVG document.
 #[wasm_bindgen]
-pub fn level_diagram_svg(
-    n: u8,
-    geometry_name: &str,
-    c_over_b: f64,
-    max_delta_over_b: f64,
-    fitted: Option<f64>,
-    observed: JsValue,
-) -> Result<String, JsError> {
-    let (d, style) = diagram_and_style(
-        n,
-        geometry_name,
-        c_over_b,
-        max_delta_over_b,
-        fitted,
-        observed,
-        1.0,
-    )?;
+pub fn level_diagram_svg(request: JsValue) -> Result<String, JsError> {
+    let (d, style) = diagram_and_style(request, 1.0)?;
     let mut out = String::new();
     {
         let root =

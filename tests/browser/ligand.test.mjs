@@ -37,6 +37,9 @@ test('the demo analysed in the page matches ddlens analyze; diagram and what-if 
   assert.match(card, /10Dq \(Δ\)\s+16\u2009?\d{3}/);
   assert.match(card, /⁴A₂g/);
   assert.ok(await inkFraction(page, '#diagram-canvas') > 0.01, 'the diagram is blank');
+  const svg = await page.evaluate(() => wasm_bindgen.level_diagram_svg(window.ddlens.state.lf.diagram));
+  assert.match(svg, /^<svg/);
+  assert.match(svg, /d3 octahedral — C\/B = 4\.19/);
   const before = await page.evaluate(() => window.ddlens.state.lf && JSON.stringify(window.ddlens.state.lf.analysis.fit.best.predicted.map((p) => p.energy)));
   assert.ok(before && before.length > 2, 'no predictions');
   // What-if: move Δ/B and the predicted ⁴T₂g (= 10Dq = Δ/B · B) follows.
