@@ -4,12 +4,26 @@
 // style gets a sha256 hash in the Content-Security-Policy, so the page
 // allows nothing it does not carry.
 import { createHash } from 'node:crypto';
-import { mkdirSync, readFileSync, rmSync, writeFileSync, copyFileSync, statSync } from 'node:fs';
+import { mkdirSync, readFileSync, readdirSync, rmSync, writeFileSync, copyFileSync, statSync } from 'node:fs';
 
 const read = (p) => readFileSync(p, 'utf8');
 const html = read('www/index.html');
 const css = read('www/style.css');
-const app = read('www/app.js');
+// The page script is kept in www/app/ as one file per concern (NN-name.js,
+// joined in name order into one function scope); the parts share the
+// page's state and helpers, and only `api` is exposed as window.ddlens.
+const parts = readdirSync('www/app').filter((f) => /^\d\d-[a-z-]+\.js$/.test(f)).sort();
+const app = [
+  "// ddlens page script, joined from www/app/ by scripts/assemble.mjs.",
+  '/* global wasm_bindgen */',
+  "'use strict';",
+  'const ddlens = (() => {',
+  ...parts.map((f) => `// ===== www/app/${f} =====\n${read(`www/app/${f}`)}`),
+  'return api;',
+  '})();',
+  'window.ddlens = ddlens;',
+  '',
+].join('\n');
 const worker = read('www/worker.js');
 const glue = read('dist/pkg/ddlens_glue.js');
 const wasm = readFileSync('dist/pkg/ddlens_glue_bg.wasm');

@@ -1,0 +1,114 @@
+// ddlens page shell: file drop, sample list, plots and exports.
+// All science runs in wasm (core functions behind src/web, the worker's
+// jobs); the page script only moves data between the DOM, the worker and
+// the drawing functions, and keeps the undo history of the user's edits.
+// This part: shared state, the compute worker, messages and undo.
+const $ = (id) => document.getElementById(id);
+const PALETTE = ['#0072b2', '#d55e00', '#009e73', '#cc79a7', '#e69f00', '#56b4e9', '#000000'];
+const EV_PER_CM = 1 / 8065.544; // CODATA 2018 hc/e in cm⁻¹ per eV (rounded)
+const state = {
+  samples: [], frame: null, nextColour: 0, nextId: 1, lastImport: null, lastDrawMs: 0,
+  view: { x: null, y: null, nmBottom: false, yMode: 'a' },
+};
+let worker = null;
+let wasmModule = null;
+
+// ---------- start-up ----------
+function embeddedWasmBytes() {
+  const el = $('wasm-b64');
+  if (!el) return null;
+  const bin = atob(el.textContent.trim());
+  const bytes = new Uint8Array(bin.length);
+  for (let i = 0; i < bin.length; i++) bytes[i] = bin.charCodeAt(i);
+  return bytes;
+}
+
+async function loadModule() {
+  const bytes = embeddedWasmBytes();
+  if (bytes) return WebAssembly.compile(bytes);
+  const response = await fetch('ddlens_bg.wasm');
+  return WebAssembly.compileStreaming ? WebAssembly.compileStreaming(response) : WebAssembly.compile(await response.arrayBuffer());
+}
+
+function startWorker(module) {
+  const glue = $('glue');
+  const workerSrc = $('worker-src');
+  const w = glue && workerSrc
+    ? new Worker(URL.createObjectURL(new Blob([glue.textContent, '\n', workerSrc.textContent], { type: 'text/javascript' })))
+    : new Worker('worker.js');
+  const pending = new Map();
+  let nextId = 1;
+  const readyPromise = new Promise((resolve, reject) => {
+    w.onmessage = (e) => {
+      const m = e.data;
+      if (m.type === 'ready') return resolve();
+      if (m.type === 'init-failed') return reject(new Error(m.error));
+      const job = pending.get(m.id);
+      if (!job) return;
+      if (m.progress !== undefined) { job.onProgress && job.onProgress(m.progress); return; }
+      pending.delete(m.id);
+      m.ok ? job.resolve(m.result) : job.reject(new Error(m.error));
+    };
+    w.onerror = (e) => reject(new Error(e.message || 'the compute worker failed to start'));
+  });
+  w.postMessage({ type: 'init', module });
+  return {
+    ready: readyPromise,
+    run(type, payload = {}, onProgress, transfer = []) {
+      const id = nextId++;
+      return new Promise((resolve, reject) => {
+        pending.set(id, { resolve, reject, onProgress });
+        w.postMessage({ id, type, ...payload }, transfer);
+      });
+    },
+    /** Stops a running job at once; the caller starts a fresh worker from the cached module. */
+    terminate() {
+      w.terminate();
+      for (const job of pending.values()) job.reject(Object.assign(new Error('cancelled'), { cancelled: true }));
+      pending.clear();
+    },
+  };
+}
+
+// ---------- messages ----------
+function say(text, kind = 'warn') {
+  const p = document.createElement('p');
+  p.className = kind;
+  p.textContent = text;
+  $('messages').prepend(p);
+  while ($('messages').children.length > 5) $('messages').lastChild.remove();
+}
+
+// ---------- undo history ----------
+// Each entry is a snapshot of the sample list (the data arrays are never
+// mutated, so a snapshot copies only the small per-sample records).
+const history = { past: [], future: [] };
+const snapshot = () => state.samples.map((s) => ({ ...s }));
+function edit(change) {
+  history.past.push(snapshot());
+  if (history.past.length > 200) history.past.shift();
+  history.future = [];
+  change();
+  refresh();
+}
+function undo() {
+  if (!history.past.length) return;
+  history.future.push(snapshot());
+  state.samples = history.past.pop();
+  refresh();
+}
+function redo() {
+  if (!history.future.length) return;
+  history.past.push(snapshot());
+  state.samples = history.future.pop();
+  refresh();
+}
+function refresh() {
+  $('undo-button').disabled = !history.past.length;
+  $('redo-button').disabled = !history.future.length;
+  renderSamples();
+  renderCleanTargets();
+  renderBands();
+  draw();
+  autosaveSoon();
+}

@@ -1,0 +1,214 @@
+// ---------- plotting ----------
+/** The y values shown for a sample in the chosen y mode, or null with a reason. */
+function shownValues(s) {
+  const mode = state.view.yMode;
+  if (mode === 'a' || s.quantity === 'molar_absorptivity' && mode === 'eps') return s.values;
+  const cl = s.quantity === 'molar_absorptivity' ? 1 : (s.concentration || 0) * (s.path || 0);
+  if (!(cl > 0)) return null;
+  const eps = s.values.map((v) => v / cl);
+  return mode === 'eps' ? eps : eps.map((v) => (v > 0 ? Math.log10(v) : NaN));
+}
+
+function figure() {
+  const lines = [], shaded = [];
+  for (const s of state.samples) {
+    if (!s.visible) continue;
+    const y = shownValues(s);
+    if (!y) continue;
+    if (s.processing && state.view.yMode === 'a') lines.push({ x: s.raw.wavenumber, y: s.raw.values, colour: '#858585', width: 1 });
+    lines.push({ x: s.wavenumber, y, colour: s.colour, width: 1.5 });
+    if (s.fit && state.view.yMode === 'a') {
+      s.fit.components.forEach((c, k) => lines.push({ x: s.fit.x, y: c, colour: PALETTE[(k + 1) % PALETTE.length], fill: true }));
+      lines.push({ x: s.fit.x, y: s.fit.total, colour: '#000000', width: 1.5, dashed: true });
+    }
+    shaded.push(...s.saturated);
+  }
+  const v = state.view;
+  const markers = state.lf && state.samples.some((x) => x.id === state.lf.sampleId && x.visible) ? predictions() : [];
+  return {
+    lines, shaded, markers,
+    x_range: v.x, y_range: v.y, nm_bottom: v.nmBottom,
+    y_label: { a: 'absorbance', eps: 'ε / M⁻¹ cm⁻¹', logeps: 'log(ε / M⁻¹ cm⁻¹)' }[v.yMode],
+  };
+}
+
+let drawQueued = false;
+function draw() {
+  const canvas = $('spectrum-canvas');
+  const dpr = window.devicePixelRatio || 1;
+  const rect = canvas.getBoundingClientRect();
+  const w = Math.max(1, Math.round(rect.width * dpr)), h = Math.max(1, Math.round(rect.height * dpr));
+  if (canvas.width !== w) canvas.width = w;
+  if (canvas.height !== h) canvas.height = h;
+  const t0 = performance.now();
+  try {
+    state.frame = wasm_bindgen.draw_spectrum(canvas, figure(), dpr);
+  } catch (e) {
+    say(`The plot could not be drawn: ${e.message || e}`);
+  }
+  state.lastDrawMs = performance.now() - t0;
+}
+function drawSoon() {
+  if (drawQueued) return;
+  drawQueued = true;
+  requestAnimationFrame(() => { drawQueued = false; draw(); });
+}
+
+// ---------- zoom, pan, read-out ----------
+// The frame maps backend pixels to bottom-axis units (nm when nm_bottom);
+// the view keeps x in cm⁻¹ always.
+function toData(event) {
+  const f = state.frame;
+  if (!f) return null;
+  const canvas = $('spectrum-canvas');
+  const dpr = window.devicePixelRatio || 1;
+  const r = canvas.getBoundingClientRect();
+  const px = (event.clientX - r.left) * dpr, py = (event.clientY - r.top) * dpr;
+  const [l, t, rr, b] = f.area;
+  const xb = f.x_range[0] + (px - l) / (rr - l) * (f.x_range[1] - f.x_range[0]);
+  const y = f.y_range[1] - (py - t) / (b - t) * (f.y_range[1] - f.y_range[0]);
+  return { inside: px >= l && px <= rr && py >= t && py <= b, cm: f.nm_bottom ? 1e7 / xb : xb, xb, y, px, py };
+}
+const currentX = () => {
+  const f = state.frame;
+  return f.nm_bottom ? [1e7 / f.x_range[1], 1e7 / f.x_range[0]] : [...f.x_range];
+};
+/** Zooms x about the bottom-axis position `xb` by `factor` (< 1 zooms in). */
+function zoomAt(xb, factor) {
+  const f = state.frame;
+  if (!f) return;
+  const [a, b] = f.x_range;
+  const na = xb - (xb - a) * factor, nb = xb + (b - xb) * factor;
+  state.view.x = f.nm_bottom ? [1e7 / nb, 1e7 / na] : [na, nb];
+  state.view.y = null;
+  drawSoon();
+}
+function panBy(fraction) {
+  const f = state.frame;
+  if (!f) return;
+  const d = (f.x_range[1] - f.x_range[0]) * fraction;
+  const [a, b] = [f.x_range[0] + d, f.x_range[1] + d];
+  state.view.x = f.nm_bottom ? [1e7 / b, 1e7 / a] : [a, b];
+  drawSoon();
+}
+function resetView() {
+  state.view.x = null;
+  state.view.y = null;
+  draw();
+}
+
+function readout(event) {
+  const p = toData(event);
+  if (!p || !p.inside) { $('readout').textContent = '\u00a0'; return; }
+  $('readout').textContent = `${p.cm.toFixed(0)} cm⁻¹ · ${(1e7 / p.cm).toFixed(1)} nm · ${(p.cm * EV_PER_CM).toFixed(3)} eV · y = ${p.y.toPrecision(4)}`;
+}
+
+function wirePlot() {
+  const canvas = $('spectrum-canvas');
+  const box = $('zoom-box');
+  let drag = null;
+  canvas.addEventListener('wheel', (e) => {
+    const p = toData(e);
+    if (!p || !p.inside) return;
+    e.preventDefault();
+    zoomAt(p.xb, e.deltaY < 0 ? 0.8 : 1.25);
+  }, { passive: false });
+  canvas.addEventListener('pointerdown', (e) => {
+    const p = toData(e);
+    if (!p || !p.inside || e.button !== 0) return;
+    canvas.setPointerCapture(e.pointerId);
+    drag = { start: p, pan: e.shiftKey, x0: currentX(), clientX: e.clientX, clientY: e.clientY, y0: state.frame.y_range };
+  });
+  canvas.addEventListener('pointermove', (e) => {
+    readout(e);
+    if (!drag) return;
+    if (drag.pan) {
+      const f = state.frame;
+      const dpr = window.devicePixelRatio || 1;
+      const dx = (e.clientX - drag.clientX) * dpr / (f.area[2] - f.area[0]);
+      const dy = (e.clientY - drag.clientY) * dpr / (f.area[3] - f.area[1]);
+      const [a, b] = f.nm_bottom ? [1e7 / drag.x0[1], 1e7 / drag.x0[0]] : drag.x0;
+      const sx = (b - a) * dx, sy = (drag.y0[1] - drag.y0[0]) * dy;
+      state.view.x = f.nm_bottom ? [1e7 / (b - sx), 1e7 / (a - sx)] : [a - sx, b - sx];
+      state.view.y = [drag.y0[0] + sy, drag.y0[1] + sy];
+      drawSoon();
+    } else {
+      const r = canvas.getBoundingClientRect();
+      Object.assign(box.style, {
+        left: `${Math.min(e.clientX, drag.clientX) - r.left}px`, top: `${Math.min(e.clientY, drag.clientY) - r.top}px`,
+        width: `${Math.abs(e.clientX - drag.clientX)}px`, height: `${Math.abs(e.clientY - drag.clientY)}px`,
+      });
+      box.hidden = false;
+    }
+  });
+  canvas.addEventListener('pointerup', (e) => {
+    if (!drag) return;
+    const d = drag;
+    drag = null;
+    box.hidden = true;
+    if (d.pan) return;
+    const p = toData(e);
+    if (!p || Math.abs(e.clientX - d.clientX) < 5 || Math.abs(e.clientY - d.clientY) < 5) return;
+    state.view.x = [Math.min(d.start.cm, p.cm), Math.max(d.start.cm, p.cm)];
+    state.view.y = [Math.min(d.start.y, p.y), Math.max(d.start.y, p.y)];
+    draw();
+  });
+  canvas.addEventListener('dblclick', resetView);
+  canvas.addEventListener('mouseleave', () => { $('readout').textContent = '\u00a0'; });
+  canvas.addEventListener('keydown', (e) => {
+    const f = state.frame;
+    if (!f) return;
+    const mid = (f.x_range[0] + f.x_range[1]) / 2;
+    const keys = {
+      ArrowLeft: () => panBy(-0.1), ArrowRight: () => panBy(0.1),
+      '+': () => zoomAt(mid, 0.8), '=': () => zoomAt(mid, 0.8), '-': () => zoomAt(mid, 1.25),
+      0: resetView, Home: resetView,
+    };
+    if (keys[e.key]) { e.preventDefault(); keys[e.key](); }
+  });
+}
+
+// ---------- exports ----------
+function download(blob, name) {
+  const a = document.createElement('a');
+  a.href = URL.createObjectURL(blob);
+  a.download = name;
+  document.body.append(a);
+  a.click();
+  a.remove();
+  setTimeout(() => URL.revokeObjectURL(a.href), 10000);
+}
+
+function baseName() {
+  const s = state.samples.find((v) => v.visible);
+  return (s ? s.name : 'ddlens').replace(/\.[a-z0-9]+$/i, '').replace(/[^\w.-]+/g, '_');
+}
+
+function exportSvg() {
+  const svg = wasm_bindgen.spectrum_svg(figure(), 1200, 600);
+  download(new Blob([svg], { type: 'image/svg+xml' }), `${baseName()}-spectrum.svg`);
+}
+
+function exportPng() {
+  const canvas = document.createElement('canvas');
+  canvas.width = 3600; canvas.height = 1800;
+  wasm_bindgen.draw_spectrum(canvas, figure(), 3);
+  canvas.toBlob((blob) => download(blob, `${baseName()}-spectrum-300dpi.png`), 'image/png');
+}
+
+/** The visible spectra as shown (y mode applied), one block of columns per sample. */
+function exportCsv() {
+  const shown = state.samples.filter((s) => s.visible).map((s) => ({ s, y: shownValues(s) })).filter((v) => v.y);
+  if (!shown.length) { say('No visible spectrum to export.'); return; }
+  const label = { a: 'absorbance', eps: 'epsilon_M-1cm-1', logeps: 'log_epsilon' }[state.view.yMode];
+  const quote = (t) => `"${String(t).replace(/"/g, '""')}"`;
+  const header = shown.flatMap(({ s }) => [quote(`${s.name} wavenumber_cm-1`), quote(`${s.name} wavelength_nm`), quote(`${s.name} ${label}`)]);
+  const rows = [header.join(',')];
+  const n = Math.max(...shown.map(({ s }) => s.wavenumber.length));
+  for (let i = 0; i < n; i++) {
+    rows.push(shown.flatMap(({ s, y }) => (i < s.wavenumber.length
+      ? [s.wavenumber[i], 1e7 / s.wavenumber[i], y[i]].map((v) => (Number.isFinite(v) ? String(+v.toPrecision(8)) : ''))
+      : ['', '', ''])).join(','));
+  }
+  download(new Blob([`${rows.join('\n')}\n`], { type: 'text/csv' }), `${baseName()}-spectra.csv`);
+}
