@@ -2,7 +2,7 @@
 //! model against a plain diagonalisation of the full 252×252 matrix at the same
 //! point, and a whole d⁵ diagram of 400 points. Prints one JSON line per case.
 
-use ddlens::ligand_field::{diagram, full_matrices, model, Geometry, Params};
+use ddlens::ligand_field::{diagram, full_matrices, model, spin_change, Geometry, Params};
 use std::time::Instant;
 
 fn median_us(runs: usize, mut work: impl FnMut()) -> f64 {
@@ -50,4 +50,10 @@ fn main() {
         std::hint::black_box(diagram(5, Geometry::Octahedral, 4.477, 40.0, 400).ok());
     });
     report("d5 diagram 400 points", "blocked", 20, t);
+    // The spin-change scan on its own: what a diagram saves by bracketing the
+    // crossing from its own grid.
+    let t = median_us(20, || {
+        std::hint::black_box(spin_change(5, Geometry::Octahedral, 4.477).ok());
+    });
+    report("d5 spin change", "0.25-step scan", 20, t);
 }

@@ -285,6 +285,33 @@ fn spin_change_points() {
 }
 
 #[test]
+fn diagram_spin_change_matches_the_scan() {
+    // A diagram brackets the spin change from its own grid when that grid is
+    // fine enough, scans past its end when the crossing lies beyond it, and
+    // falls back to the scan when the grid is coarse: all three must agree
+    // with `spin_change` (the 0.25-step scan) to the bisection tolerance.
+    for (n, geometry, cb) in [
+        (4u8, OH, 4.61),
+        (5, OH, 4.477),
+        (6, OH, 4.8),
+        (7, OH, 4.633),
+        (5, TD, 4.477),
+        (3, OH, 4.5),
+    ] {
+        let scan = spin_change(n, geometry, cb).unwrap();
+        for (max, points) in [(40.0, 400), (10.0, 200), (60.0, 50), (150.0, 1501)] {
+            let d = diagram(n, geometry, cb, max, points).unwrap();
+            match (d.spin_change, scan) {
+                (Some(a), Some(b)) => {
+                    assert!((a - b).abs() < 1e-6, "d{n} {max}/{points}: {a} vs {b}")
+                }
+                (a, b) => assert_eq!(a, b, "d{n} {max}/{points}"),
+            }
+        }
+    }
+}
+
+#[test]
 fn ground_labels() {
     // Ground terms: d3 Oh ⁴A2g, d6 strong field ¹A1g, d5 weak field ⁶A1g (Tanabe & Sugano 1954).
     assert_eq!(levels(3, OH, 1740.0, 725.0, 3263.0)[0].label, "4A2g");

@@ -57,41 +57,60 @@ fn at(x: f64, c_over_b: f64) -> Params {
     }
 }
 
-/// Multiplicity of the ground level at Δ/B = x.
-fn ground_multiplicity(m: &super::Model, x: f64, c_over_b: f64) -> u8 {
-    let energies = m.block_energies(&at(x, c_over_b));
+/// Multiplicity of the lowest level among per-block energies (each block's
+/// energies ascending, blocks in the model's order).
+fn lowest_multiplicity(m: &super::Model, energies: &[Vec<f64>]) -> u8 {
     m.blocks
         .iter()
-        .zip(&energies)
+        .zip(energies)
         .filter_map(|(b, e)| e.first().map(|&lowest| (b.multiplicity, lowest)))
         .min_by(|a, b| a.1.total_cmp(&b.1))
         .map_or(0, |(mult, _)| mult)
+}
+
+/// Multiplicity of the ground level at Δ/B = x.
+fn ground_multiplicity(m: &super::Model, x: f64, c_over_b: f64) -> u8 {
+    lowest_multiplicity(m, &m.block_energies(&at(x, c_over_b)))
+}
+
+/// Step of the spin-change scan and the largest Δ/B it reaches.
+const SCAN_STEP: f64 = 0.25;
+const SCAN_END: f64 = 100.0;
+
+/// Bisects a bracket [lo, hi] with the ground multiplicity `start` at lo and a
+/// different one at hi down to 1e-9.
+fn bisect_spin_change(m: &super::Model, c_over_b: f64, start: u8, mut lo: f64, mut hi: f64) -> f64 {
+    while hi - lo > 1e-9 {
+        let mid = 0.5 * (lo + hi);
+        if ground_multiplicity(m, mid, c_over_b) == start {
+            lo = mid;
+        } else {
+            hi = mid;
+        }
+    }
+    0.5 * (lo + hi)
+}
+
+/// Scans Δ/B from `from` in steps of [`SCAN_STEP`] up to [`SCAN_END`] for the
+/// first change away from the ground multiplicity `start`.
+fn scan_spin_change(m: &super::Model, c_over_b: f64, start: u8, from: f64) -> Option<f64> {
+    let mut lo = from;
+    while lo < SCAN_END {
+        let hi = lo + SCAN_STEP;
+        if ground_multiplicity(m, hi, c_over_b) != start {
+            return Some(bisect_spin_change(m, c_over_b, start, lo, hi));
+        }
+        lo = hi;
+    }
+    None
 }
 
 /// Δ/B at which the ground level changes spin (first change above Δ/B = 0, up to 100).
 pub fn spin_change(n: u8, geometry: Geometry, c_over_b: f64) -> Result<Option<f64>, LfError> {
     check_c_over_b(c_over_b)?;
     let m = model(n, geometry)?;
-    let step = 0.25;
-    let mut lo = 0.0;
     let start = ground_multiplicity(m, 1e-6, c_over_b);
-    while lo < 100.0 {
-        let hi = lo + step;
-        if ground_multiplicity(m, hi, c_over_b) != start {
-            let (mut a, mut b) = (lo, hi);
-            while b - a > 1e-9 {
-                let mid = 0.5 * (a + b);
-                if ground_multiplicity(m, mid, c_over_b) == start {
-                    a = mid;
-                } else {
-                    b = mid;
-                }
-            }
-            return Ok(Some(0.5 * (a + b)));
-        }
-        lo = hi;
-    }
-    Ok(None)
+    Ok(scan_spin_change(m, c_over_b, start, 0.0))
 }
 
 /// The E/B against Δ/B diagram of dⁿ at the given C/B, `points` values of Δ/B
@@ -135,8 +154,20 @@ pub fn diagram(
             });
         }
     }
+    // The spin change is bracketed from the diagram's own grid when it is at
+    // least as fine as the scan (no extra diagonalisations), else scanned.
+    let start = ground_multiplicity(m, 1e-6, c_over_b);
+    let grid_brackets = max_delta_over_b / (points - 1) as f64 <= SCAN_STEP;
+    let mut bracket: Option<(f64, f64)> = None;
+    let mut previous = 0.0;
     for &x in &delta_over_b {
         let energies = m.block_energies(&at(x, c_over_b));
+        if grid_brackets && bracket.is_none() && x > 0.0 && x <= SCAN_END {
+            if lowest_multiplicity(m, &energies) != start {
+                bracket = Some((previous, x));
+            }
+            previous = x;
+        }
         let ground = energies
             .iter()
             .filter_map(|e| e.first().copied())
@@ -151,6 +182,10 @@ pub fn diagram(
         c_over_b,
         delta_over_b,
         curves,
-        spin_change: spin_change(n, geometry, c_over_b)?,
+        spin_change: match bracket {
+            Some((lo, hi)) => Some(bisect_spin_change(m, c_over_b, start, lo, hi)),
+            None if grid_brackets => scan_spin_change(m, c_over_b, start, previous),
+            None => scan_spin_change(m, c_over_b, start, 0.0),
+        },
     })
 }
