@@ -1,7 +1,9 @@
 #!/usr/bin/env bash
 # Installs what the build and the tests need, when it is missing:
-#   web     the wasm target and wasm-bindgen-cli at the version in Cargo.lock
-#   browser Debian's chromium + chromium-driver, and playwright-core from npm (never a browser download)
+#   web     the wasm target, wasm-bindgen-cli at the version in Cargo.lock, and
+#           the npm packages (binaryen's wasm-opt shrinks the module)
+#   browser Debian's chromium + chromium-driver, and the npm packages
+#           (playwright-core drives that chromium; never a browser download)
 #   python  numpy, scipy, sympy for the reference checks
 set -euo pipefail
 cd "$(dirname "$0")/.."
@@ -19,6 +21,14 @@ web() {
     # Plain install: --locked fails against this registry (a locked dependency is missing).
     cargo install wasm-bindgen-cli --version "$want" --quiet
   fi
+  npm_packages
+}
+
+npm_packages() {
+  if [ ! -d node_modules/playwright-core ] || [ ! -x node_modules/.bin/wasm-opt ]; then
+    say "installing the npm packages in package.json (playwright-core, binaryen; no browser download)"
+    PLAYWRIGHT_SKIP_BROWSER_DOWNLOAD=1 npm install --no-audit --no-fund --silent
+  fi
 }
 
 browser() {
@@ -28,10 +38,7 @@ browser() {
     $SUDO apt-get update -qq
     DEBIAN_FRONTEND=noninteractive $SUDO apt-get install -y -qq chromium chromium-driver >/dev/null
   fi
-  if [ ! -d node_modules/playwright-core ]; then
-    say "installing playwright-core (no browser download)"
-    PLAYWRIGHT_SKIP_BROWSER_DOWNLOAD=1 npm install --no-audit --no-fund --silent
-  fi
+  npm_packages
 }
 
 python() {
