@@ -248,3 +248,21 @@ fn percent_label_on_a_zero_to_one_scale_is_read_as_transmittance() {
     assert!((s.values[0] - 2.0).abs() < 1e-12 && (s.values[1] - 1.0).abs() < 1e-12);
     assert!(s.warnings.iter().any(|w| w.message.contains("0–1 scale")));
 }
+
+#[test]
+fn a_lone_row_of_numbers_outside_the_table_is_reported_not_dropped() {
+    // One row of numbers, a stray text line, then the table: the lone row is
+    // not part of the table, and the report says so with its line number.
+    let text = "nm,A\n500,0.1\nremark here\n510,0.2\n520,0.3\n530,0.25\n";
+    let r = import(text.as_bytes(), "lone.csv", &ImportOptions::default()).unwrap();
+    assert_eq!(r.spectra[0].wavenumber.len(), 3);
+    let lone: Vec<_> = r
+        .spectra
+        .iter()
+        .flat_map(|s| &s.warnings)
+        .chain(&r.warnings)
+        .filter(|w| w.line == Some(2))
+        .collect();
+    assert_eq!(lone.len(), 1, "{:?}", r.warnings);
+    assert!(lone[0].message.contains("not read"), "{}", lone[0].message);
+}

@@ -194,6 +194,16 @@ pub fn read(text: &str, file_name: &str) -> Result<RawReport, ImportError> {
 
     let mut warnings = Vec::new();
     for &(s, e) in &runs {
+        if s != start && e - s == 1 {
+            // A lone row of numbers outside the table is never dropped silently.
+            warnings.push(Warning::new(
+                Some(lines[s].0),
+                format!(
+                    "this row of numbers is separated from the table at line {} and was not read",
+                    lines[start].0
+                ),
+            ));
+        }
         if s != start && e - s >= 2 {
             warnings.push(Warning::new(
                 Some(lines[s].0),
