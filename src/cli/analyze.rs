@@ -2,8 +2,6 @@
 //! the whole pipeline (the same function the browser calls).
 
 use super::{Args, CliError};
-use crate::lf_fit::FitRequest;
-use crate::ligand_field::parse_configuration;
 use crate::pipeline::{self, AnalysisOptions, BandCount};
 use crate::spectrum::XUnit;
 
@@ -35,14 +33,10 @@ pub fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
         print!("{HELP}");
         return Ok(());
     }
-    let ion = args.value("--ion")?;
-    let n = args
-        .value("--config")?
-        .map(|c| parse_configuration(&c))
-        .transpose()
-        .map_err(|e| CliError::Usage(e.to_string()))?;
-    let geometry = super::geometry_option(args)?;
-    let mut opts = AnalysisOptions::default();
+    let mut opts = AnalysisOptions {
+        ligand_field: Some(super::fit_request_options(args)?),
+        ..AnalysisOptions::default()
+    };
     if let Some(b) = args.value("--bands")? {
         opts.bands =
             match b.as_str() {
@@ -89,23 +83,6 @@ pub fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
             }
         });
     }
-    let lf = FitRequest {
-        ion,
-        n: n.unwrap_or(0),
-        geometry,
-        c_over_b: args.number("--c-over-b")?,
-        free_c: args.flag("--free-c"),
-        spin_forbidden: args.flag("--spin-forbidden"),
-        b0_source: args.value("--b0-source")?,
-        ligand: args.value("--ligand")?,
-        ..FitRequest::default()
-    };
-    if lf.ion.is_none() && n.is_none() {
-        return Err(CliError::Usage(
-            "give the ion (--ion Cr3+) or the configuration (--config d3)".into(),
-        ));
-    }
-    opts.ligand_field = Some(lf);
     let file = args
         .next_positional()
         .ok_or_else(|| CliError::Usage("analyze needs a spectrum FILE".into()))?;

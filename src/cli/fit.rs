@@ -2,8 +2,7 @@
 //! ligand-field parameters from band maxima.
 
 use super::{Args, CliError};
-use crate::lf_fit::{self, FitOutcome, FitRequest, ObservedBand, Solution};
-use crate::ligand_field::parse_configuration;
+use crate::lf_fit::{self, FitOutcome, ObservedBand, Solution};
 
 const HELP: &str = "\
 ddlens fit [OPTIONS] --band E[:SIGMA] --band …
@@ -47,31 +46,14 @@ pub fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
         print!("{HELP}");
         return Ok(());
     }
-    let ion = args.value("--ion")?;
-    let n = match args.value("--config")? {
-        Some(c) => parse_configuration(&c).map_err(|e| CliError::Usage(e.to_string()))?,
-        None if ion.is_some() => 0,
-        None => return Err(CliError::Usage("give --config dN or --ion".into())),
-    };
-    let geometry = super::geometry_option(args)?;
-    let bands = args
+    let mut req = super::fit_request_options(args)?;
+    req.bands = args
         .values("--band")?
         .iter()
         .map(|b| parse_band(b))
         .collect::<Result<Vec<_>, _>>()?;
-    let req = FitRequest {
-        n,
-        geometry,
-        ion,
-        bands,
-        c_over_b: args.number("--c-over-b")?,
-        free_c: args.flag("--free-c"),
-        spin_forbidden: args.flag("--spin-forbidden"),
-        b0_source: args.value("--b0-source")?,
-        max_prediction: args.number("--max-prediction")?,
-        ligand: args.value("--ligand")?,
-        observed_from: args.number("--observed-from")?,
-    };
+    req.max_prediction = args.number("--max-prediction")?;
+    req.observed_from = args.number("--observed-from")?;
     args.finish()?;
     let outcome = lf_fit::fit(&req).map_err(|e| CliError::Failed(e.to_string()))?;
     if json {

@@ -92,8 +92,35 @@ pub(crate) fn geometry_option(args: &mut Args) -> Result<crate::ligand_field::Ge
         .map_err(|e: crate::ligand_field::LfError| CliError::Usage(e.to_string()))
 }
 
-/// Prints a serializable value as one line of JSON.
-#[allow(dead_code)] // used by the subcommands as they land
+/// The ligand-field choices `fit` and `analyze` share: `--ion` or `--config`,
+/// `--geometry`, `--c-over-b`, `--free-c`, `--spin-forbidden`, `--b0-source`
+/// and `--ligand`. Bands and ranges are left to the command.
+pub(crate) fn fit_request_options(args: &mut Args) -> Result<crate::lf_fit::FitRequest, CliError> {
+    let ion = args.value("--ion")?;
+    let n = match args.value("--config")? {
+        Some(c) => crate::ligand_field::parse_configuration(&c)
+            .map_err(|e| CliError::Usage(e.to_string()))?,
+        None if ion.is_some() => 0,
+        None => {
+            return Err(CliError::Usage(
+                "give the ion (--ion Cr3+) or the configuration (--config d3)".into(),
+            ))
+        }
+    };
+    Ok(crate::lf_fit::FitRequest {
+        ion,
+        n,
+        geometry: geometry_option(args)?,
+        c_over_b: args.number("--c-over-b")?,
+        free_c: args.flag("--free-c"),
+        spin_forbidden: args.flag("--spin-forbidden"),
+        b0_source: args.value("--b0-source")?,
+        ligand: args.value("--ligand")?,
+        ..Default::default()
+    })
+}
+
+/// Prints a serializable value as pretty JSON.
 pub(crate) fn print_json<T: serde::Serialize>(value: &T) -> Result<(), CliError> {
     let text = serde_json::to_string_pretty(value).map_err(|e| CliError::Failed(e.to_string()))?;
     println!("{text}");
