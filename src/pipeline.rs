@@ -18,7 +18,12 @@
 //!   transitions are considered (common practice: spin-forbidden intraconfigurational
 //!   bands are tens to hundreds of cm⁻¹ wide);
 //! - when there are more bands than the model has transitions, the highest
-//!   are set aside as not d–d (assumed charge transfer), one at a time.
+//!   are set aside as not d–d (assumed charge transfer), one at a time;
+//! - unless a baseline is given, a linear and a scattering (Rayleigh-like,
+//!   a + b·ν̃ⁿ with n free) baseline are both tried and the lower BIC wins
+//!   (common practice: glasses, powders and turbid solutions scatter; left as
+//!   a straight line, the curvature is taken up by small spurious bands at the
+//!   high-energy end).
 
 use crate::bands::{self, BandFit, BandModel, BaselineModel, FitOptions, Shape};
 use crate::lf_fit::{self, FitOutcome, FitRequest, LfFitError, ObservedBand};
@@ -48,7 +53,10 @@ pub struct AnalysisOptions {
     pub range: Option<[f64; 2]>,
     pub bands: BandCount,
     pub shape: Shape,
-    pub baseline: BaselineModel,
+    /// The baseline under the bands; `None` (the default) chooses between a
+    /// linear and a scattering baseline by BIC.
+    #[serde(default)]
+    pub baseline: Option<BaselineModel>,
     pub max_iterations: usize,
     /// The ligand-field choices; its `bands` and `observed_from` are filled
     /// from the band table and the spectrum. Without it the analysis stops
@@ -65,7 +73,7 @@ impl Default for AnalysisOptions {
             range: None,
             bands: BandCount::Auto(6),
             shape: Shape::Gaussian,
-            baseline: BaselineModel::Linear,
+            baseline: None,
             max_iterations: 200,
             ligand_field: None,
         }
@@ -222,16 +230,74 @@ pub fn deconvolve(
         molar_absorptivity: s.quantity == Quantity::MolarAbsorptivity,
         ..FitOptions::default()
     };
+    let candidates = match opts.baseline {
+        Some(b) => vec![b],
+        None => vec![BaselineModel::Linear, BaselineModel::Scattering],
+    };
+    let mut best: Option<Deconvolution> = None;
+    let mut tried = Vec::new();
+    let mut last_error = None;
+    for &baseline in &candidates {
+        match deconvolve_with(&x, &y, &w, opts, baseline, &fit_opts, progress) {
+            Ok(d) => {
+                let bic = d.fit.statistics.bic.unwrap_or(f64::INFINITY);
+                tried.push(format!("{} {bic:.1}", baseline_name(baseline)));
+                let better = best
+                    .as_ref()
+                    .is_none_or(|b| bic < b.fit.statistics.bic.unwrap_or(f64::INFINITY));
+                if better {
+                    best = Some(d);
+                }
+            }
+            Err(e) => last_error = Some(e),
+        }
+    }
+    let mut best = match (best, last_error) {
+        (Some(b), _) => b,
+        (None, Some(e)) => return Err(e),
+        (None, None) => return Err(AnalysisError::TooFewPoints(x.len())),
+    };
+    if candidates.len() > 1 {
+        best.fit.warnings.push(format!(
+            "baseline chosen by BIC: {} (BIC {})",
+            baseline_name(best.fit.baseline.model),
+            tried.join(", ")
+        ));
+    }
+    Ok(best)
+}
+
+fn baseline_name(b: BaselineModel) -> &'static str {
+    match b {
+        BaselineModel::None => "none",
+        BaselineModel::Constant => "constant",
+        BaselineModel::Linear => "linear",
+        BaselineModel::Polynomial(_) => "polynomial",
+        BaselineModel::Scattering => "scattering",
+        BaselineModel::ChargeTransferTail => "charge-transfer tail",
+    }
+}
+
+/// The band fit with one baseline model.
+fn deconvolve_with(
+    x: &[f64],
+    y: &[f64],
+    w: &[f64],
+    opts: &AnalysisOptions,
+    baseline: BaselineModel,
+    fit_opts: &FitOptions,
+    progress: &mut dyn FnMut(bands::lm::Progress) -> bool,
+) -> Result<Deconvolution, AnalysisError> {
     match opts.bands {
         BandCount::Auto(max) => {
             let r = bands::select_band_count(
-                &x,
-                &y,
-                Some(&w),
+                x,
+                y,
+                Some(w),
                 max.clamp(1, 12),
                 opts.shape,
-                opts.baseline,
-                &fit_opts,
+                baseline,
+                fit_opts,
             )
             .map_err(AnalysisError::Bands)?;
             Ok(Deconvolution {
@@ -240,17 +306,17 @@ pub fn deconvolve(
             })
         }
         BandCount::Fixed(n) => {
-            let mut specs = bands::guess(&x, &y, Some(n.clamp(1, 30)));
+            let mut specs = bands::guess(x, y, Some(n.clamp(1, 30)));
             if specs.is_empty() {
                 return Err(AnalysisError::TooFewPoints(x.len()));
             }
             specs.iter_mut().for_each(|b| b.shape = opts.shape);
             let model = BandModel {
                 bands: specs,
-                baseline: opts.baseline,
+                baseline,
                 ties: Vec::new(),
             };
-            let fit = bands::fit(&x, &y, Some(&w), &model, &fit_opts, progress)
+            let fit = bands::fit(x, y, Some(w), &model, fit_opts, progress)
                 .map_err(AnalysisError::Bands)?;
             Ok(Deconvolution {
                 fit,

@@ -2,6 +2,7 @@
 //! engine itself: the parameters must come back within their stated
 //! uncertainties (a self-consistency check of import → bands → fit).
 
+use ddlens::bands::BaselineModel;
 use ddlens::lf_fit::FitRequest;
 use ddlens::ligand_field::{model, Geometry, Params};
 use ddlens::pipeline::{analyze_file, AnalysisOptions, BandCount};
@@ -113,4 +114,33 @@ fn recovers_parameters_for_d2_d3_d7_tetrahedral_and_d8() {
         },
         3,
     );
+}
+
+#[test]
+fn the_demo_with_default_options_finds_its_two_bands_on_a_scattering_baseline() {
+    // fixtures/demo/make_demo.py: two d³ bands from Dq 1650, B 690 cm⁻¹ on a
+    // 0.015 + 0.02·(ν̃/30 000)⁴ baseline. With every choice left automatic the
+    // pipeline must pick the scattering baseline and two bands, not take up the
+    // curvature with small extra bands.
+    let path = format!("{}/fixtures/demo/demo-crx7.csv", env!("CARGO_MANIFEST_DIR"));
+    let bytes = std::fs::read(path).unwrap();
+    let opts = AnalysisOptions {
+        ligand_field: Some(FitRequest {
+            ion: Some("Cr3+".into()),
+            ..FitRequest::default()
+        }),
+        ..AnalysisOptions::default()
+    };
+    let a = analyze_file(&bytes, "demo-crx7.csv", &opts).unwrap();
+    assert_eq!(a.bands.fit.baseline.model, BaselineModel::Scattering);
+    assert_eq!(a.bands.fit.bands.len(), 2);
+    let best = a.fit.expect("a fit").best;
+    let (dq, b) = (best.parameters.dq, best.parameters.b.unwrap());
+    for (name, got, truth) in [("Dq", dq, 1650.0), ("B", b, 690.0)] {
+        let s = got.sigma.unwrap();
+        assert!(
+            (got.value - truth).abs() <= 2.0 * s,
+            "{name} = {got} against {truth}"
+        );
+    }
 }

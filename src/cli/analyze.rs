@@ -2,7 +2,7 @@
 //! the whole pipeline (the same function the browser calls).
 
 use super::{Args, CliError};
-use crate::pipeline::{self, AnalysisOptions, BandCount};
+use crate::pipeline::{self, AnalysisOptions};
 use crate::spectrum::XUnit;
 
 const HELP: &str = "\
@@ -16,7 +16,8 @@ OPTIONS:
     --geometry G         octahedral (default) or tetrahedral
     --bands N|auto       number of bands (default auto: chosen by BIC, up to 6)
     --shape S            gaussian (default), lorentzian, pseudo-voigt, voigt, skew-gaussian
-    --baseline B         none, constant, linear (default), polynomial:N, scattering, ct-tail
+    --baseline B         auto (default: linear or scattering, by BIC), none,
+                         constant, linear, polynomial:N, scattering, ct-tail
     --range LO:HI        use only LO–HI cm⁻¹
     --spectrum K         the K-th spectrum of the file (default 1)
     --x-unit U           override the x unit: nm, um, cm-1, ev
@@ -37,21 +38,11 @@ pub fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
         ligand_field: Some(super::fit_request_options(args)?),
         ..AnalysisOptions::default()
     };
-    if let Some(b) = args.value("--bands")? {
-        opts.bands =
-            match b.as_str() {
-                "auto" => BandCount::Auto(6),
-                t => BandCount::Fixed(t.parse().ok().filter(|n| (1..=30).contains(n)).ok_or_else(
-                    || CliError::Usage(format!("--bands: '{t}' is not 1–30 or auto")),
-                )?),
-            };
-    }
+    opts.bands = super::band_count_option(args)?;
     if let Some(s) = args.value("--shape")? {
         opts.shape = s.parse().map_err(CliError::Usage)?;
     }
-    if let Some(b) = args.value("--baseline")? {
-        opts.baseline = b.parse().map_err(CliError::Usage)?;
-    }
+    opts.baseline = super::baseline_option(args)?;
     if let Some(r) = args.value("--range")? {
         let bad = || CliError::Usage(format!("--range: '{r}' should be LO:HI in cm⁻¹"));
         let (a, b) = r.split_once(':').ok_or_else(bad)?;

@@ -1,9 +1,9 @@
-//! `ddlens deconvolve FILE [--bands N|auto] [--shape gaussian] [--baseline linear]
+//! `ddlens deconvolve FILE [--bands N|auto] [--shape gaussian] [--baseline auto]
 //! [--range LO:HI] [--epsilon] [--max-iterations N]`: resolves overlapping bands.
 
 use super::{Args, CliError};
-use crate::bands::{BaselineModel, Shape};
-use crate::pipeline::{self, AnalysisError, AnalysisOptions, BandCount};
+use crate::bands::Shape;
+use crate::pipeline::{self, AnalysisError, AnalysisOptions};
 use crate::spectrum::Quantity;
 
 const HELP: &str = "\
@@ -16,7 +16,8 @@ by their share of the wavenumber axis; saturated regions are left out.
 OPTIONS:
     --bands N|auto     number of bands (default auto: chosen by BIC, up to 6)
     --shape S          gaussian (default), lorentzian, pseudo-voigt, voigt, skew-gaussian
-    --baseline B       none, constant, linear (default), polynomial:N, scattering, ct-tail
+    --baseline B       auto (default: linear or scattering, by BIC), none,
+                       constant, linear, polynomial:N, scattering, ct-tail
     --range LO:HI      fit only LO–HI cm⁻¹
     --epsilon          y is ε in L mol⁻¹ cm⁻¹: report oscillator strengths and classes
     --max-iterations N solver iteration limit (default 200)
@@ -28,15 +29,12 @@ pub fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
         print!("{HELP}");
         return Ok(());
     }
-    let bands_opt = args.value("--bands")?;
+    let count = super::band_count_option(args)?;
     let shape: Shape = match args.value("--shape")? {
         Some(s) => s.parse().map_err(CliError::Usage)?,
         None => Shape::Gaussian,
     };
-    let baseline: BaselineModel = match args.value("--baseline")? {
-        Some(s) => s.parse().map_err(CliError::Usage)?,
-        None => BaselineModel::Linear,
-    };
+    let baseline = super::baseline_option(args)?;
     let range = match args.value("--range")? {
         Some(r) => Some(parse_range(&r)?),
         None => None,
@@ -57,19 +55,6 @@ pub fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
     args.finish()?;
     let bytes =
         std::fs::read(&file).map_err(|e| CliError::Failed(format!("cannot read {file}: {e}")))?;
-    let count = match bands_opt.as_deref() {
-        None | Some("auto") => BandCount::Auto(6),
-        Some(text) => BandCount::Fixed(
-            text.parse()
-                .ok()
-                .filter(|n| (1..=30).contains(n))
-                .ok_or_else(|| {
-                    CliError::Usage(format!(
-                        "--bands: '{text}' is not a number from 1 to 30 or 'auto'"
-                    ))
-                })?,
-        ),
-    };
     let mut opts = AnalysisOptions {
         range: range.map(|(lo, hi)| [lo, hi]),
         bands: count,

@@ -120,6 +120,34 @@ pub(crate) fn fit_request_options(args: &mut Args) -> Result<crate::lf_fit::FitR
     })
 }
 
+/// Reads `--baseline` (default and `auto`: chosen by BIC between linear and scattering).
+pub(crate) fn baseline_option(
+    args: &mut Args,
+) -> Result<Option<crate::bands::BaselineModel>, CliError> {
+    match args.value("--baseline")?.as_deref() {
+        None | Some("auto") => Ok(None),
+        Some(b) => b.parse().map(Some).map_err(CliError::Usage),
+    }
+}
+
+/// Reads `--bands N|auto` (default auto: chosen by BIC among 1…6).
+pub(crate) fn band_count_option(args: &mut Args) -> Result<crate::pipeline::BandCount, CliError> {
+    use crate::pipeline::BandCount;
+    match args.value("--bands")?.as_deref() {
+        None | Some("auto") => Ok(BandCount::Auto(6)),
+        Some(text) => text
+            .parse()
+            .ok()
+            .filter(|n| (1..=30).contains(n))
+            .map(BandCount::Fixed)
+            .ok_or_else(|| {
+                CliError::Usage(format!(
+                    "--bands: '{text}' is not a number from 1 to 30 or 'auto'"
+                ))
+            }),
+    }
+}
+
 /// Prints a serializable value as pretty JSON.
 pub(crate) fn print_json<T: serde::Serialize>(value: &T) -> Result<(), CliError> {
     let text = serde_json::to_string_pretty(value).map_err(|e| CliError::Failed(e.to_string()))?;

@@ -33,7 +33,7 @@ function lfOptions() {
   return {
     import: {}, spectrum: 0, range: null,
     bands: Number.isFinite(n) && n > 0 ? { fixed: n } : { auto: 6 },
-    shape: $('band-shape').value, baseline: 'linear', max_iterations: 200,
+    shape: $('band-shape').value, baseline: null, max_iterations: 200,
     ligand_field: {
       ion: $('lf-ion').value, geometry: $('lf-geometry').value,
       c_over_b: Number.isFinite(cb) ? cb : null,
