@@ -65,6 +65,17 @@ fn span(values: &[Estimate]) -> Option<(f64, f64)> {
     Some((lo - pad, hi + pad))
 }
 
+/// A sample name cut to fit its share of the axis (about 90 characters across), with "…".
+fn short_name(name: &str, samples: usize) -> String {
+    let room = (90 / samples.max(1)).clamp(6, 40);
+    if name.chars().count() <= room {
+        name.to_string()
+    } else {
+        let cut: String = name.chars().take(room - 1).collect();
+        format!("{}…", cut.trim_end())
+    }
+}
+
 /// One panel: axis label, the value of each sample, the y span, the colour.
 type Panel<'a> = (&'a str, Vec<Option<Estimate>>, Option<(f64, f64)>, RGBColor);
 
@@ -90,7 +101,7 @@ pub fn draw_series<DB: DrawingBackend>(
     root.fill(&WHITE).map_err(drawing_error)?;
     let panels = root.split_evenly((2, 1));
     let n = points.len();
-    let names: Vec<String> = points.iter().map(|p| p.sample.clone()).collect();
+    let names: Vec<String> = points.iter().map(|p| short_name(&p.sample, n)).collect();
     let deltas: Vec<Estimate> = points.iter().map(|p| p.delta).collect();
     let betas: Vec<Estimate> = points.iter().filter_map(|p| p.beta).collect();
     let rows: [Panel; 2] = [
@@ -138,6 +149,7 @@ pub fn draw_series<DB: DrawingBackend>(
                     String::new()
                 }
             })
+            .y_label_formatter(&|v| format!("{v:.*}", if hi - lo > 50.0 { 0 } else { 2 }))
             .y_desc(label)
             .label_style(font.clone())
             .axis_desc_style(font)

@@ -58,3 +58,20 @@ fn an_empty_or_non_finite_series_is_an_error() {
     // A single sample and one without β draw without failing.
     assert!(series_svg(&[point("only", 9000.0, None)], 800, 600).is_ok());
 }
+
+#[test]
+fn long_sample_names_are_cut_to_their_share_of_the_axis() {
+    let long = "CrX-7 (demo: invented Cr3+-doped host, second batch)";
+    let pts = [
+        point(long, 15200.0, None),
+        point("HX-2", 17400.0, None),
+        point("HX-3", 16100.0, None),
+    ];
+    let svg = series_svg(&pts, 800, 600).unwrap();
+    assert!(!svg.contains(long));
+    assert!(
+        svg.contains("CrX-7 (demo: invented Cr3+-do…"),
+        "the cut name is missing"
+    );
+    assert!(svg.contains("HX-2"));
+}
