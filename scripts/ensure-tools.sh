@@ -1,7 +1,8 @@
 #!/usr/bin/env bash
 # Installs what the build and the tests need, when it is missing:
 #   web     the wasm target and wasm-bindgen-cli at the version in Cargo.lock
-#   browser Debian's chromium + chromium-driver, and playwright-core from npm (never a browser download)
+#   browser Debian's chromium + chromium-driver, poppler-utils (pdftoppm, pdftotext for the report
+#           test), and playwright-core from npm (never a browser download)
 #   python  numpy, scipy, sympy for the reference checks
 set -euo pipefail
 cd "$(dirname "$0")/.."
@@ -21,12 +22,21 @@ web() {
   fi
 }
 
+# Debian packages, with sudo when not root.
+apt_install() {
+  if [ "$(id -u)" = 0 ]; then SUDO=; else SUDO=sudo; fi
+  $SUDO apt-get update -qq
+  DEBIAN_FRONTEND=noninteractive $SUDO apt-get install -y -qq "$@" >/dev/null
+}
+
 browser() {
   if [ ! -x /usr/bin/chromium ]; then
     say "installing Debian's chromium"
-    if [ "$(id -u)" = 0 ]; then SUDO=; else SUDO=sudo; fi
-    $SUDO apt-get update -qq
-    DEBIAN_FRONTEND=noninteractive $SUDO apt-get install -y -qq chromium chromium-driver >/dev/null
+    apt_install chromium chromium-driver
+  fi
+  if ! command -v pdftoppm >/dev/null; then
+    say "installing Debian's poppler-utils"
+    apt_install poppler-utils
   fi
   if [ ! -d node_modules/playwright-core ]; then
     say "installing playwright-core (no browser download)"
