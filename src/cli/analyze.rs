@@ -25,6 +25,8 @@ OPTIONS:
     --c-over-b G         hold C/B at G (default: the ion's free-ion C₀/B₀, else 4.5)
     --free-c             fit C too (needs three or more bands)
     --spin-forbidden     consider spin-forbidden transitions
+    --band E:STATE       fix the band found nearest E cm⁻¹ (within 3 %) to STATE (e.g. 23300:4T1g(P));
+                         `--band 23300:x` marks it as not d–d (repeatable)
     --b0-source NAME     free-ion table for β: common or jolly
     --ligand L           the ligand (e.g. H2O, NH3, Cl-) for Jørgensen's estimates
     --json               machine-readable output
@@ -98,6 +100,11 @@ pub fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
         spin_forbidden: args.flag("--spin-forbidden"),
         b0_source: args.value("--b0-source")?,
         ligand: args.value("--ligand")?,
+        bands: args
+            .values("--band")?
+            .iter()
+            .map(|b| super::fit::parse_band(b))
+            .collect::<Result<Vec<_>, _>>()?,
         ..FitRequest::default()
     };
     if lf.ion.is_none() && n.is_none() {

@@ -18,7 +18,7 @@ const lf = (page) => page.evaluate(() => {
   return r && { delta: r.analysis.fit.best.derived.delta.value, states: r.analysis.fit.best.assignment.map((a) => a.state), observed: r.analysis.observed };
 });
 
-test('choosing a state or "not d–d" for a band refits; undo, redo and a reload keep it', async () => {
+test('choosing a state or "not d–d" for a band refits as ddlens analyze does; undo, redo, a share link and a reload keep it', async () => {
   const { context, page, log } = await openPage(browser, site.url);
   await analyseDemo(page);
   const auto = await lf(page);
@@ -54,6 +54,19 @@ test('choosing a state or "not d–d" for a band refits; undo, redo and a reload
   await page.waitForFunction(() => window.ddlens.state.lf.analysis.observed[0].not_dd, null, { timeout: 30000 });
   const one = await lf(page);
   assert.deepEqual(one.states, ['4T1g(P)']);
+  // `ddlens analyze` with the same choices on the same file gives the same fit.
+  const same = runCli(['analyze', 'fixtures/demo/demo-crx7.csv', '--ion', 'Cr3+', '--bands', '2', '--b0-source', 'common',
+    '--band', `${one.observed[0].energy}:x`, '--band', `${one.observed[1].energy}:4T1g(P)`, '--json']);
+  assert.deepEqual(same.fit.best.assignment.map((a) => a.state), one.states);
+  assert.ok(Math.abs(same.fit.best.derived.delta.value - one.delta) <= 1e-3 * one.delta);
+  // A share link carries the choices to a fresh browser.
+  await page.locator('#share-link').click();
+  await page.waitForFunction(() => document.querySelector('#share-output').value.includes('#project='));
+  const fresh = await openPage(browser, await page.locator('#share-output').inputValue());
+  await fresh.page.waitForFunction(() => window.ddlens.state.lf, null, { timeout: 30000 });
+  assert.deepEqual(await lf(fresh.page), one);
+  assert.deepEqual(fresh.log.errors, []);
+  await fresh.context.close();
   await page.screenshot({ path: `${OUTPUT}/assignment-choice.png`, fullPage: true });
 
   await page.waitForTimeout(600); // the autosave is debounced by 300 ms

@@ -173,7 +173,6 @@ function renderLf() {
   const fit = lf && lf.analysis.fit;
   $('lf-results').hidden = !fit;
   if (!fit) return;
-  setLfControls(lf.controls);
   const b = fit.best, p = b.parameters, d = b.derived;
   const card = $('lf-card').tBodies[0];
   card.replaceChildren();
@@ -416,6 +415,8 @@ function renderSeries() {
 /** Makes a sample the selected one (its result shows in the panel). */
 function selectSample(id) {
   $('clean-target').value = String(id);
+  const s = find(id);
+  if (s && s.lf) setLfControls(s.lf.controls);
   showCleaning();
   renderBands();
   renderLf();

@@ -61,8 +61,8 @@ async function loadProject(doc) {
     if (!lf) continue;
     try { s.lf = await analyse(s, lf.controls, s.lfChoices); } catch (e) { failed(s, e); }
   }
-  if (state.samples[doc.selected]) $('clean-target').value = String(state.samples[doc.selected].id);
   refresh();
+  if (state.samples[doc.selected]) selectSample(state.samples[doc.selected].id);
 }
 
 let autosaveTimer = null;
