@@ -139,7 +139,8 @@ pub fn draw_series<DB: DrawingBackend>(
         chart
             .configure_mesh()
             .disable_x_mesh()
-            .light_line_style(palette::GRID)
+            .max_light_lines(0)
+            .bold_line_style(palette::GRID)
             .x_labels(n + 1)
             .x_label_formatter(&|x| {
                 let i = x.round();

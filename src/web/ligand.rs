@@ -161,5 +161,5 @@ pub fn draw_series_plot(
 #[wasm_bindgen]
 pub fn series_plot_svg(points: JsValue) -> Result<String, JsError> {
     let points: Vec<SeriesPoint> = from_js(points, "the series")?;
-    Ok(series_svg(&points, 900, 600)?)
+    Ok(series_svg(&points, 720, 480)?)
 }

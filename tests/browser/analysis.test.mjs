@@ -5,6 +5,7 @@
 // fixtures/demo/make_demo.py from known Dq and B).
 import { test, before, after } from 'node:test';
 import assert from 'node:assert/strict';
+import { execFileSync } from 'node:child_process';
 import { readFileSync } from 'node:fs';
 import { launch, startSite, openPage, analyseDemo, runCli, inkFraction, OUTPUT } from './harness.mjs';
 
@@ -157,6 +158,13 @@ test('several samples: analyse all, each keeps its result, the table sorts by mo
   }
   await page.locator('#lf-panel').scrollIntoViewIfNeeded();
   await page.screenshot({ path: `${OUTPUT}/series.png`, fullPage: true });
+  // The report of a series adds the table and the Δ/β plot (looked at as PDF pages).
+  await page.locator('#report-open').click();
+  assert.equal(await page.locator('#report svg').count(), 3);
+  assert.equal(await page.locator('#report table').last().locator('tbody tr').count(), 3);
+  await page.pdf({ path: `${OUTPUT}/report-series.pdf`, format: 'A4', printBackground: true, margin: { top: '15mm', bottom: '15mm', left: '12mm', right: '12mm' } });
+  execFileSync('pdftoppm', ['-png', '-r', '70', '-f', '3', `${OUTPUT}/report-series.pdf`, `${OUTPUT}/report-series-page`]);
+  await page.locator('#report-close').click();
   await page.waitForTimeout(600);
   await page.reload();
   await page.waitForFunction(() => window.ddlens.state.samples.filter((s) => s.lf).length === 3, null, { timeout: 60000 });

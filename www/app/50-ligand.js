@@ -12,6 +12,8 @@ const fmt = (e, unit = '') => {
   const group = (v) => v.toFixed(d).replace(/^-?\d+/, (i) => i.replace(/\B(?=(\d{3})+(?!\d))/g, '\u2009'));
   return `${group(e.value)} ± ${group(e.sigma)}${unit}`;
 };
+/** χ², with a rounding-level value of an exactly determined fit shown as 0. */
+const chi2Text = (v) => (v < 1e-9 ? '0' : v.toPrecision(3));
 /** A whole number without a minus sign on zero, or a dash. */
 const whole = (v) => (v != null && Number.isFinite(v) ? String(Math.round(v) || 0) : '—');
 const selectedSample = () => find(Number($('clean-target').value));
@@ -91,7 +93,8 @@ async function choose(energy, value) {
   const s = selectedSample();
   if (!s || !s.lf) return;
   const choice = value === '' ? null : value === '!x' ? { energy, not_dd: true } : { energy, assign: value };
-  const choices = (s.lfChoices || []).filter((c) => Math.abs(c.energy - energy) > 1e-6 * energy);
+  // A new choice replaces any earlier one the pipeline would match to this band (within 3 %, pipeline::CHOICE_MATCH).
+  const choices = (s.lfChoices || []).filter((c) => Math.abs(c.energy - energy) > 0.03 * energy);
   if (choice) choices.push(choice);
   try {
     const rec = await analyse(s, s.lf.controls, choices);
@@ -125,7 +128,7 @@ function cardRows(fit) {
     const j = fit.jorgensen;
     rows.push([`Jørgensen estimate (${j.ligand})`, `Δ ≈ ${j.delta ? j.delta.toFixed(0) + ' cm⁻¹' : '—'}, β ≈ ${j.beta ? j.beta.toFixed(2) : '—'} (${j.source})`]);
   }
-  rows.push(['χ²', `${b.chi2.toPrecision(3)} (${b.degrees_of_freedom} degrees of freedom)`]);
+  rows.push(['χ²', `${chi2Text(b.chi2)} (${b.degrees_of_freedom} degrees of freedom)`]);
   return rows;
 }
 
@@ -350,13 +353,17 @@ function diagramPng() {
 }
 
 // ---------- several samples ----------
+const bestOf = (s) => s.lf.analysis.fit.best;
+const numCell = (e) => ({ value: e ? e.value : -Infinity, text: fmt(e) });
+const textCell = (t) => ({ value: t, text: t });
+/** The results table: heading and, per sample, the cell's sort value and text. */
 const SERIES_COLUMNS = [
-  ['sample', (s) => s.name], ['ion', (s) => `${s.lf.controls.ion} ${s.lf.controls.geometry}`],
-  ['Δ / cm⁻¹', (s) => s.lf.analysis.fit.best.derived.delta, true], ['B / cm⁻¹', (s) => s.lf.analysis.fit.best.parameters.b, true],
-  ['β', (s) => s.lf.analysis.fit.best.derived.beta, true], ['C/B', (s) => s.lf.analysis.fit.best.derived.c_over_b, true],
-  ['Dq/B', (s) => s.lf.analysis.fit.best.derived.dq_over_b, true],
-  ['ground state', (s) => `${s.lf.analysis.fit.best.ground_typeset}, ${s.lf.analysis.fit.best.spin.state}`],
-  ['χ²', (s) => ({ value: s.lf.analysis.fit.best.chi2, sigma: null }), true],
+  ['sample', (s) => textCell(s.name)], ['ion', (s) => textCell(`${s.lf.controls.ion} ${s.lf.controls.geometry}`)],
+  ['Δ / cm⁻¹', (s) => numCell(bestOf(s).derived.delta)], ['B / cm⁻¹', (s) => numCell(bestOf(s).parameters.b)],
+  ['β', (s) => numCell(bestOf(s).derived.beta)], ['C/B', (s) => numCell(bestOf(s).derived.c_over_b)],
+  ['Dq/B', (s) => numCell(bestOf(s).derived.dq_over_b)],
+  ['ground state', (s) => textCell(`${bestOf(s).ground_typeset}, ${bestOf(s).spin.state}`)],
+  ['χ²', (s) => ({ value: bestOf(s).chi2, text: chi2Text(bestOf(s).chi2) })],
 ];
 /** The samples with a fit, in the table's sort order. */
 function seriesSamples() {
@@ -364,10 +371,10 @@ function seriesSamples() {
   const { key, dir } = state.lfSort;
   const col = SERIES_COLUMNS[key];
   if (!col) return list;
-  const v = (s) => { const x = col[1](s); return col[2] ? (x ? x.value : -Infinity) : x; };
-  return [...list].sort((a, b) => (col[2] ? v(a) - v(b) : String(v(a)).localeCompare(String(v(b)))) * dir);
+  const order = (a, b) => { const [x, y] = [col[1](a).value, col[1](b).value]; return typeof x === 'number' ? x - y : String(x).localeCompare(String(y)); };
+  return [...list].sort((a, b) => order(a, b) * dir);
 }
-const seriesPoints = () => seriesSamples().map((s) => ({ sample: s.name, delta: s.lf.analysis.fit.best.derived.delta, beta: s.lf.analysis.fit.best.derived.beta }));
+const seriesPoints = () => seriesSamples().map((s) => ({ sample: s.name, delta: bestOf(s).derived.delta, beta: bestOf(s).derived.beta }));
 
 function renderSeries() {
   const list = seriesSamples();
@@ -395,7 +402,7 @@ function renderSeries() {
   const body = $('series-table').tBodies[0];
   body.replaceChildren();
   for (const s of list) {
-    const tr = row(body, SERIES_COLUMNS.map(([, get, num]) => (num ? fmt(get(s)) : get(s))));
+    const tr = row(body, SERIES_COLUMNS.map(([, get]) => get(s).text));
     const show = document.createElement('button');
     show.type = 'button';
     show.className = 'sort';

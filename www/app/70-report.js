@@ -34,7 +34,7 @@ function reportData() {
     predicted: best.predicted,
     warnings: lfWarnings(lf),
     caution: CAUTION,
-    samples: seriesSamples().map((x) => Object.fromEntries(SERIES_COLUMNS.map(([label, get]) => [label, get(x)]))),
+    samples: seriesSamples().map((x) => Object.fromEntries(SERIES_COLUMNS.map(([label, get]) => [label, get(x).text]))),
     analysis: a,
   };
 }
@@ -48,7 +48,9 @@ const el = (tag, content = [], cls) => {
 function table(head, rows) {
   const t = el('table', [], 'band-table');
   t.append(el('thead', [el('tr', head.map((h) => { const th = el('th', h); th.scope = 'col'; return th; }))]));
-  t.append(el('tbody', rows.map((r) => el('tr', r.map((v) => el('td', String(v)))))));
+  // Numbers (with their ± and digit groups) are never broken across lines.
+  const cell = (v) => el('td', String(v), /^[-−\d\s.,±e+—]+(cm⁻¹)?$/.test(String(v)) ? 'num' : '');
+  t.append(el('tbody', rows.map((r) => el('tr', r.map(cell)))));
   return t;
 }
 /** An SVG export as a scalable inline figure. */
@@ -80,7 +82,7 @@ function renderReport(r) {
   ];
   if (r.samples.length >= 2) {
     const cols = SERIES_COLUMNS.map(([label]) => label);
-    body.push(section('All analysed samples', table(cols, r.samples.map((x) => cols.map((k) => (typeof x[k] === 'object' ? fmt(x[k]) : x[k])))),
+    body.push(section('All analysed samples', table(cols, r.samples.map((x) => cols.map((k) => x[k]))),
       figureOf(wasm_bindgen.series_plot_svg(seriesPoints()), 'Δ and β of each sample (± one standard uncertainty), in the order of the table.')));
   }
   $('report-body').replaceChildren(...body);
