@@ -2,8 +2,9 @@
 # Installs what the build and the tests need, when it is missing:
 #   web     the wasm target, wasm-bindgen-cli at the version in Cargo.lock, and
 #           the npm packages (binaryen's wasm-opt shrinks the module)
-#   browser Debian's chromium + chromium-driver, and the npm packages
-#           (playwright-core drives that chromium; never a browser download)
+#   browser Debian's chromium + chromium-driver, poppler-utils (pdftoppm, pdftotext
+#           for the report test), and the npm packages (playwright-core drives
+#           that chromium; never a browser download)
 #   python  numpy, scipy, sympy for the reference checks
 set -euo pipefail
 cd "$(dirname "$0")/.."
@@ -31,12 +32,21 @@ npm_packages() {
   fi
 }
 
+# Debian packages, with sudo when not root.
+apt_install() {
+  if [ "$(id -u)" = 0 ]; then SUDO=; else SUDO=sudo; fi
+  $SUDO apt-get update -qq
+  DEBIAN_FRONTEND=noninteractive $SUDO apt-get install -y -qq "$@" >/dev/null
+}
+
 browser() {
   if [ ! -x /usr/bin/chromium ]; then
     say "installing Debian's chromium"
-    if [ "$(id -u)" = 0 ]; then SUDO=; else SUDO=sudo; fi
-    $SUDO apt-get update -qq
-    DEBIAN_FRONTEND=noninteractive $SUDO apt-get install -y -qq chromium chromium-driver >/dev/null
+    apt_install chromium chromium-driver
+  fi
+  if ! command -v pdftoppm >/dev/null; then
+    say "installing Debian's poppler-utils"
+    apt_install poppler-utils
   fi
   npm_packages
 }

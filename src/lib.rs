@@ -6,6 +6,7 @@
 
 pub mod bands;
 pub mod cli;
+pub mod compare;
 pub mod estimate;
 pub mod ions;
 pub mod lf_fit;

@@ -24,6 +24,11 @@
 //!   (common practice: glasses, powders and turbid solutions scatter; left as
 //!   a straight line, the curvature is taken up by small spurious bands at the
 //!   high-energy end).
+//! - the user's per-band choices (a forced state or "not d–d", given as the
+//!   `bands` of the ligand-field request) are matched by energy to the bands
+//!   the deconvolution finds: each choice goes to the nearest band within
+//!   [`CHOICE_MATCH`] of its energy, so the choices survive a re-analysis
+//!   that moves the maxima a little.
 
 use crate::bands::{self, BandFit, BandModel, BaselineModel, FitOptions, Shape};
 use crate::lf_fit::{self, FitOutcome, FitRequest, LfFitError, ObservedBand};
@@ -59,8 +64,9 @@ pub struct AnalysisOptions {
     pub baseline: Option<BaselineModel>,
     pub max_iterations: usize,
     /// The ligand-field choices; its `bands` and `observed_from` are filled
-    /// from the band table and the spectrum. Without it the analysis stops
-    /// after the band table.
+    /// from the band table and the spectrum, except that the `assign` and
+    /// `not_dd` of any `bands` given here are kept (see [`apply_choices`]).
+    /// Without it the analysis stops after the band table.
     #[serde(default)]
     pub ligand_field: Option<FitRequest>,
 }
@@ -349,6 +355,37 @@ pub fn observed_bands(fit: &BandFit, quantity: Quantity) -> Vec<ObservedBand> {
         .collect()
 }
 
+/// How far (as a fraction of its energy) a choice may lie from the band it is matched to.
+pub const CHOICE_MATCH: f64 = 0.03;
+
+/// Copies the user's choices (`assign`, `not_dd`) onto the nearest band of
+/// `observed` within [`CHOICE_MATCH`]; returns a warning for each choice that
+/// matched no band. A choice with neither is ignored.
+pub fn apply_choices(observed: &mut [ObservedBand], choices: &[ObservedBand]) -> Vec<String> {
+    let mut warnings = Vec::new();
+    for c in choices.iter().filter(|c| c.not_dd || c.assign.is_some()) {
+        let nearest = observed
+            .iter_mut()
+            .filter(|b| (b.energy - c.energy).abs() <= CHOICE_MATCH * c.energy.abs())
+            .min_by(|a, b| {
+                (a.energy - c.energy)
+                    .abs()
+                    .total_cmp(&(b.energy - c.energy).abs())
+            });
+        match nearest {
+            Some(b) => {
+                b.not_dd = c.not_dd;
+                b.assign = if c.not_dd { None } else { c.assign.clone() };
+            }
+            None => warnings.push(format!(
+                "the choice for the band at {:.0} cm⁻¹ matches no band found now and was left out",
+                c.energy
+            )),
+        }
+    }
+    warnings
+}
+
 /// Runs the analysis on a spectrum already imported (the browser's entry point).
 pub fn analyze_spectrum(
     s: &Spectrum,
@@ -360,6 +397,7 @@ pub fn analyze_spectrum(
     let mut warnings = Vec::new();
     let (mut fit, mut fit_error) = (None, None);
     if let Some(lf) = &opts.ligand_field {
+        warnings.extend(apply_choices(&mut observed, &lf.bands));
         let narrow = observed
             .iter()
             .any(|b| b.fwhm.is_some_and(|w| w < NARROW_BAND));
@@ -388,7 +426,7 @@ pub fn analyze_spectrum(
                     if let Some(top) = req
                         .bands
                         .iter_mut()
-                        .filter(|b| !b.not_dd)
+                        .filter(|b| !b.not_dd && b.assign.is_none())
                         .max_by(|a, b| a.energy.total_cmp(&b.energy))
                     {
                         top.not_dd = true;

@@ -382,3 +382,36 @@ fn labels_are_unique() {
         }
     }
 }
+
+/// The frame returned by the drawing maps Δ/B to pixels: the fitted Δ/B line
+/// (Okabe–Ito vermillion, src/ligand_field/draw.rs) lies where the frame says.
+#[test]
+fn diagram_frame_maps_delta_over_b_to_pixels() {
+    use ddlens::ligand_field::{draw_diagram, DiagramStyle};
+    use plotters::prelude::{IntoDrawingArea, SVGBackend};
+    let d = diagram(3, Geometry::Octahedral, 4.5, 40.0, 50).unwrap();
+    let style = DiagramStyle {
+        fitted_delta_over_b: Some(23.9),
+        ..DiagramStyle::default()
+    };
+    let mut svg = String::new();
+    let frame = {
+        let root = SVGBackend::with_string(&mut svg, (900, 700)).into_drawing_area();
+        draw_diagram(&root, &d, &style).unwrap()
+    };
+    let [l, t, r, b] = frame.area;
+    assert!(0.0 < l && l < r && r < 900.0 && 0.0 < t && t < b && b < 700.0);
+    assert_eq!(frame.x_range, [0.0, 40.0]);
+    assert_eq!(frame.y_range, [0.0, 80.0]);
+    let expected = l + 23.9 / 40.0 * (r - l);
+    let line = svg
+        .lines()
+        .find(|s| s.contains("polyline") && s.contains("#D55E00"))
+        .expect("the fitted line");
+    let points = line.split("points=\"").nth(1).unwrap();
+    let x: f64 = points.split(',').next().unwrap().parse().unwrap();
+    assert!(
+        (x - expected).abs() <= 1.0,
+        "line at {x}, frame says {expected} ({frame:?})"
+    );
+}

@@ -3,7 +3,7 @@
 //! uncertainties (a self-consistency check of import → bands → fit).
 
 use ddlens::bands::BaselineModel;
-use ddlens::lf_fit::FitRequest;
+use ddlens::lf_fit::{FitRequest, ObservedBand};
 use ddlens::ligand_field::{model, Geometry, Params};
 use ddlens::pipeline::{analyze_file, AnalysisOptions, BandCount};
 
@@ -122,8 +122,6 @@ fn the_demo_with_default_options_finds_its_two_bands_on_a_scattering_baseline() 
     // 0.015 + 0.02·(ν̃/30 000)⁴ baseline. With every choice left automatic the
     // pipeline must pick the scattering baseline and two bands, not take up the
     // curvature with small extra bands.
-    let path = format!("{}/fixtures/demo/demo-crx7.csv", env!("CARGO_MANIFEST_DIR"));
-    let bytes = std::fs::read(path).unwrap();
     let opts = AnalysisOptions {
         ligand_field: Some(FitRequest {
             ion: Some("Cr3+".into()),
@@ -131,7 +129,8 @@ fn the_demo_with_default_options_finds_its_two_bands_on_a_scattering_baseline() 
         }),
         ..AnalysisOptions::default()
     };
-    let a = analyze_file(&bytes, "demo-crx7.csv", &opts).unwrap();
+    let csv = include_bytes!("../fixtures/demo/demo-crx7.csv");
+    let a = analyze_file(csv, "demo-crx7.csv", &opts).unwrap();
     assert_eq!(a.bands.fit.baseline.model, BaselineModel::Scattering);
     assert_eq!(a.bands.fit.bands.len(), 2);
     let best = a.fit.expect("a fit").best;
@@ -143,4 +142,66 @@ fn the_demo_with_default_options_finds_its_two_bands_on_a_scattering_baseline() 
             "{name} = {got} against {truth}"
         );
     }
+}
+
+/// The demo (fixtures/demo/make_demo.py: d³ octahedral, Dq 1650, B 690) with
+/// two bands, and the user's per-band choices handed in as the request's bands.
+fn demo(choices: Vec<ObservedBand>) -> ddlens::pipeline::Analysis {
+    let opts = AnalysisOptions {
+        bands: BandCount::Fixed(2),
+        ligand_field: Some(FitRequest {
+            ion: Some("Cr3+".into()),
+            bands: choices,
+            ..FitRequest::default()
+        }),
+        ..AnalysisOptions::default()
+    };
+    let csv = include_bytes!("../fixtures/demo/demo-crx7.csv");
+    analyze_file(csv, "demo-crx7.csv", &opts).unwrap()
+}
+
+fn states(a: &ddlens::pipeline::Analysis) -> Vec<String> {
+    let fit = a.fit.as_ref().expect("a fit");
+    fit.best
+        .assignment
+        .iter()
+        .map(|x| x.state.clone())
+        .collect()
+}
+
+#[test]
+fn user_choices_reach_the_fit_matched_by_energy() {
+    let auto = demo(Vec::new());
+    assert_eq!(states(&auto), ["4T2g", "4T1g(F)"]);
+    let (low, high) = (auto.observed[0].energy, auto.observed[1].energy);
+    let choice = |energy: f64, assign: Option<&str>, not_dd: bool| ObservedBand {
+        energy,
+        assign: assign.map(String::from),
+        not_dd,
+        ..ObservedBand::default()
+    };
+    // The upper band forced onto ⁴T₁g(P), given 1 % off its fitted maximum.
+    let forced = demo(vec![choice(high * 1.01, Some("4T1g(P)"), false)]);
+    assert_eq!(states(&forced)[1], "4T1g(P)");
+    assert_eq!(forced.observed[1].assign.as_deref(), Some("4T1g(P)"));
+    let d = |a: &ddlens::pipeline::Analysis| a.fit.as_ref().unwrap().best.derived.delta.value;
+    assert!(
+        (d(&forced) - d(&auto)).abs() > 100.0,
+        "forcing changed nothing"
+    );
+    // The lower band marked as not d–d: only the upper band is fitted.
+    let one = demo(vec![choice(low, None, true)]);
+    assert!(one.observed[0].not_dd);
+    assert_eq!(one.fit.as_ref().unwrap().best.assignment.len(), 1);
+    assert!((one.fit.as_ref().unwrap().best.assignment[0].observed - high).abs() < 1e-9);
+    // A spin-forbidden state can be forced without asking for spin-forbidden bands.
+    let flip = demo(vec![choice(low, Some("2Eg"), false)]);
+    assert_eq!(states(&flip)[0], "2Eg(G)");
+    // A choice far from every band is reported, not applied.
+    let stray = demo(vec![choice(5000.0, None, true)]);
+    assert_eq!(states(&stray), states(&auto));
+    assert!(stray
+        .warnings
+        .iter()
+        .any(|w| w.contains("5000 cm⁻¹ matches no band")));
 }

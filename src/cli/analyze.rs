@@ -24,6 +24,8 @@ OPTIONS:
     --c-over-b G         hold C/B at G (default: the ion's free-ion C₀/B₀, else 4.5)
     --free-c             fit C too (needs three or more bands)
     --spin-forbidden     consider spin-forbidden transitions
+    --band E:STATE       fix the band found nearest E cm⁻¹ (within 3 %) to STATE (e.g. 23300:4T1g(P));
+                         `--band 23300:x` marks it as not d–d (repeatable)
     --b0-source NAME     free-ion table for β: common or jolly
     --ligand L           the ligand (e.g. H2O, NH3, Cl-) for Jørgensen's estimates
     --json               machine-readable output
@@ -73,6 +75,13 @@ pub fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
                 )))
             }
         });
+    }
+    if let Some(lf) = opts.ligand_field.as_mut() {
+        lf.bands = args
+            .values("--band")?
+            .iter()
+            .map(|b| super::fit::parse_band(b))
+            .collect::<Result<Vec<_>, _>>()?;
     }
     let file = args
         .next_positional()

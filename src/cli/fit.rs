@@ -25,7 +25,8 @@ OPTIONS:
     --json               machine-readable output
 ";
 
-fn parse_band(text: &str) -> Result<ObservedBand, CliError> {
+/// Reads `E[:S][:STATE]` or `E:x` (shared with `analyze`, where it fixes the band found nearest E).
+pub(super) fn parse_band(text: &str) -> Result<ObservedBand, CliError> {
     let mut parts = text.split(':');
     let energy = super::args::parse_number("--band", parts.next().unwrap_or(""))?;
     let mut band = ObservedBand::at(energy);

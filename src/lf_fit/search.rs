@@ -121,8 +121,17 @@ pub(crate) fn assignments(p: &Problem) -> Result<Vec<Tuple>, LfFitError> {
             let Some(i0) = start_index(levels, s) else {
                 continue;
             };
+            // A band forced onto a state may take it whatever its spin; the
+            // other bands only take the candidates the request allows.
+            let allowed = |j: usize| is_candidate(s, levels[j].multiplicity, p.spin_forbidden);
             let cands: Vec<usize> = (0..levels.len())
-                .filter(|&j| j != i0 && is_candidate(s, levels[j].multiplicity, p.spin_forbidden))
+                .filter(|&j| {
+                    j != i0
+                        && (allowed(j)
+                            || forced
+                                .iter()
+                                .any(|f| forced_ok(&levels[j], f) && f.is_some()))
+                })
                 .collect();
             any_candidate |= !cands.is_empty();
             let mut c = cands.len();
@@ -134,7 +143,7 @@ pub(crate) fn assignments(p: &Problem) -> Result<Vec<Tuple>, LfFitError> {
                 if finals
                     .iter()
                     .zip(&forced)
-                    .all(|(&j, f)| forced_ok(&levels[j], f))
+                    .all(|(&j, f)| forced_ok(&levels[j], f) && (f.is_some() || allowed(j)))
                 {
                     set.insert((s, finals.iter().map(|&j| ks[j].clone()).collect()));
                 }

@@ -9,6 +9,18 @@
 use super::{Diagram, LfError};
 use plotters::coord::Shift;
 use plotters::prelude::*;
+use serde::{Deserialize, Serialize};
+
+/// Where a drawn diagram's axes lie, for pointer read-outs.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct DiagramFrame {
+    /// Plot area in backend pixels: left, top, right, bottom.
+    pub area: [f64; 4],
+    /// Δ/B at the left and right edge.
+    pub x_range: [f64; 2],
+    /// E/B at the bottom and top edge.
+    pub y_range: [f64; 2],
+}
 
 /// How to draw a diagram.
 #[derive(Debug, Clone, PartialEq)]
@@ -53,12 +65,12 @@ fn drawing_error<E: std::fmt::Debug>(e: E) -> LfError {
     LfError::Drawing(format!("{e:?}"))
 }
 
-/// Draws `diagram` filling `root`.
+/// Draws `diagram` filling `root`; returns where its axes lie.
 pub fn draw_diagram<DB: DrawingBackend>(
     root: &DrawingArea<DB, Shift>,
     diagram: &Diagram,
     style: &DiagramStyle,
-) -> Result<(), LfError> {
+) -> Result<DiagramFrame, LfError> {
     let scale = if style.scale.is_finite() && style.scale > 0.0 {
         style.scale
     } else {
@@ -174,5 +186,11 @@ pub fn draw_diagram<DB: DrawingBackend>(
         }
     }
     root.present().map_err(drawing_error)?;
-    Ok(())
+    // The pixel ranges are half-open; plotters maps the axis ends onto the last pixel inside.
+    let (xs, ys) = chart.plotting_area().get_pixel_range();
+    Ok(DiagramFrame {
+        area: [xs.start, ys.start, xs.end - 1, ys.end - 1].map(f64::from),
+        x_range: [0.0, x_max],
+        y_range: [0.0, y_max],
+    })
 }

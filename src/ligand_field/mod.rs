@@ -19,7 +19,7 @@ mod model;
 
 pub use angular::{ck, wigner_3j};
 pub use diagram::{diagram, spin_change, Curve, Diagram};
-pub use draw::{draw_diagram, DiagramStyle};
+pub use draw::{draw_diagram, DiagramFrame, DiagramStyle};
 pub use model::{Block, Irrep, Model};
 
 use serde::{Deserialize, Serialize};

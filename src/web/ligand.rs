@@ -2,6 +2,7 @@
 //! analysis, the assignment fit and the energy-level diagram.
 
 use super::{from_js, to_js};
+use crate::compare::{draw_series, series_svg, SeriesPoint};
 use crate::ligand_field::{self, draw_diagram, DiagramStyle, Geometry, Params};
 use crate::pipeline::{self, AnalysisOptions};
 use crate::spectrum::{Quantity, Spectrum, XUnit};
@@ -113,7 +114,7 @@ fn diagram_and_style(
 }
 
 /// Draws the energy-level diagram (E/B against Δ/B) on a canvas sized CSS × `scale`;
-/// returns the curves (for hover read-outs).
+/// returns its frame (plot area in canvas pixels and the Δ/B and E/B ranges) for read-outs.
 #[wasm_bindgen]
 pub fn draw_level_diagram(
     canvas: HtmlCanvasElement,
@@ -123,8 +124,7 @@ pub fn draw_level_diagram(
     let (d, style) = diagram_and_style(request, scale.clamp(0.5, 8.0))?;
     let backend = CanvasBackend::with_canvas_object(canvas)
         .ok_or_else(|| JsError::new("the canvas has no 2D context"))?;
-    draw_diagram(&backend.into_drawing_area(), &d, &style)?;
-    to_js(&d)
+    to_js(&draw_diagram(&backend.into_drawing_area(), &d, &style)?)
 }
 
 /// The same diagram as an SVG document.
@@ -138,4 +138,28 @@ pub fn level_diagram_svg(request: JsValue) -> Result<String, JsError> {
         draw_diagram(&root, &d, &style)?;
     }
     Ok(out)
+}
+
+/// Δ and β across samples (`compare::draw_series`) on a canvas sized CSS × `scale`.
+#[wasm_bindgen]
+pub fn draw_series_plot(
+    canvas: HtmlCanvasElement,
+    points: JsValue,
+    scale: f64,
+) -> Result<(), JsError> {
+    let points: Vec<SeriesPoint> = from_js(points, "the series")?;
+    let backend = CanvasBackend::with_canvas_object(canvas)
+        .ok_or_else(|| JsError::new("the canvas has no 2D context"))?;
+    Ok(draw_series(
+        &backend.into_drawing_area(),
+        &points,
+        scale.clamp(0.5, 8.0),
+    )?)
+}
+
+/// The same figure as an SVG document.
+#[wasm_bindgen]
+pub fn series_plot_svg(points: JsValue) -> Result<String, JsError> {
+    let points: Vec<SeriesPoint> = from_js(points, "the series")?;
+    Ok(series_svg(&points, 720, 480)?)
 }

@@ -2,7 +2,8 @@
 // playwright-core, the page opened from file:// and over http on loopback,
 // every request recorded so that a test can prove nothing left the machine.
 import { chromium } from 'playwright-core';
-import { mkdirSync } from 'node:fs';
+import { execFileSync } from 'node:child_process';
+import { existsSync, mkdirSync } from 'node:fs';
 import { resolve } from 'node:path';
 import { pathToFileURL } from 'node:url';
 import { serve } from '../../scripts/serve.mjs';
@@ -66,4 +67,20 @@ export async function inkFraction(page, selector = '#spectrum-canvas') {
     for (let i = 0; i < d.length; i += 4 * 97) { n++; if (d[i] < 240 || d[i + 1] < 240 || d[i + 2] < 240) ink++; }
     return ink / n;
   }, selector);
+}
+
+/** Analyses the demo with two bands as Cr³⁺ (the panel's own controls) and waits for the result. */
+export async function analyseDemo(page) {
+  await page.locator('#bands-panel > summary').click();
+  await page.locator('#band-count').fill('2');
+  await page.locator('#lf-ion').selectOption('Cr3+');
+  await page.locator('#lf-analyze').click();
+  await page.waitForFunction(() => window.ddlens.state.lf, null, { timeout: 30000 });
+}
+
+/** Runs the native `ddlens` (the debug build when present) and parses its JSON output. */
+export function runCli(args) {
+  const bin = `${process.env.CARGO_TARGET_DIR || 'target'}/debug/ddlens`;
+  const out = existsSync(bin) ? execFileSync(bin, args) : execFileSync('cargo', ['run', '--quiet', '--', ...args]);
+  return JSON.parse(out.toString());
 }

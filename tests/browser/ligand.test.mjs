@@ -3,28 +3,17 @@
 // predicted transitions, and the what-if control moves them.
 import { test, before, after } from 'node:test';
 import assert from 'node:assert/strict';
-import { execFileSync } from 'node:child_process';
-import { existsSync } from 'node:fs';
-import { launch, fileUrl, openPage, inkFraction, OUTPUT } from './harness.mjs';
+import { launch, fileUrl, openPage, analyseDemo, inkFraction, runCli, OUTPUT } from './harness.mjs';
 
 let browser;
 before(async () => { browser = await launch(); });
 after(async () => { await browser?.close(); });
 
-function cliAnalysis() {
-  const bin = `${process.env.CARGO_TARGET_DIR || 'target'}/debug/ddlens`;
-  const args = ['analyze', 'fixtures/demo/demo-crx7.csv', '--ion', 'Cr3+', '--bands', '2', '--b0-source', 'common', '--json'];
-  const out = existsSync(bin) ? execFileSync(bin, args) : execFileSync('cargo', ['run', '--quiet', '--', ...args]);
-  return JSON.parse(out.toString());
-}
+const cliAnalysis = () => runCli(['analyze', 'fixtures/demo/demo-crx7.csv', '--ion', 'Cr3+', '--bands', '2', '--b0-source', 'common', '--json']);
 
 test('the demo analysed in the page matches ddlens analyze; diagram and what-if work', async () => {
   const { context, page, log } = await openPage(browser, fileUrl());
-  await page.locator('#bands-panel > summary').click();
-  await page.locator('#band-count').fill('2');
-  await page.locator('#lf-ion').selectOption('Cr3+');
-  await page.locator('#lf-analyze').click();
-  await page.waitForFunction(() => window.ddlens.state.lf, null, { timeout: 30000 });
+  await analyseDemo(page);
   await page.locator('#lf-results').waitFor({ state: 'visible' });
   const best = await page.evaluate(() => window.ddlens.state.lf.analysis.fit.best);
   const cli = cliAnalysis().fit.best;

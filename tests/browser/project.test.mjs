@@ -1,19 +1,11 @@
 // Share link, corrupted link, autosave after a reload, and project files.
 import { test, before, after } from 'node:test';
 import assert from 'node:assert/strict';
-import { launch, startSite, openPage, OUTPUT } from './harness.mjs';
+import { launch, startSite, openPage, analyseDemo, OUTPUT } from './harness.mjs';
 
 let browser, site;
 before(async () => { browser = await launch(); site = await startSite(); });
 after(async () => { await browser?.close(); site?.server.close(); });
-
-async function analyse(page) {
-  await page.locator('#bands-panel > summary').click();
-  await page.locator('#band-count').fill('2');
-  await page.locator('#lf-ion').selectOption('Cr3+');
-  await page.locator('#lf-analyze').click();
-  await page.waitForFunction(() => window.ddlens.state.lf, null, { timeout: 30000 });
-}
 
 const summary = (page) => page.evaluate(() => {
   const lf = window.ddlens.state.lf;
@@ -26,7 +18,7 @@ const summary = (page) => page.evaluate(() => {
 
 test('a share link restores the same analysis in a fresh browser; a damaged one loads nothing', async () => {
   const { context, page, log } = await openPage(browser, site.url);
-  await analyse(page);
+  await analyseDemo(page);
   const original = await summary(page);
   await page.locator('#share-link').click();
   await page.waitForFunction(() => document.querySelector('#share-output').value.includes('#project='));
@@ -55,7 +47,7 @@ test('a share link restores the same analysis in a fresh browser; a damaged one 
 
 test('a reload restores the workspace; Start fresh clears it', async () => {
   const { context, page, log } = await openPage(browser, site.url);
-  await analyse(page);
+  await analyseDemo(page);
   const original = await summary(page);
   await page.waitForTimeout(600); // the autosave is debounced by 300 ms
   await page.reload();

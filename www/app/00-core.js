@@ -109,6 +109,7 @@ function refresh() {
   renderSamples();
   renderCleanTargets();
   renderBands();
+  renderLf();
   draw();
   autosaveSoon();
 }

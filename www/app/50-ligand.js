@@ -1,13 +1,24 @@
 // ---------- ligand field ----------
 // The analysis runs in the worker (core pipeline); predictions for the
-// what-if control come from the engine's levels on the main thread.
+// what-if control and the diagram read-out come from the engine's levels on
+// the main thread. Each sample keeps its own result (`s.lf`) and its
+// per-band choices (`s.lfChoices`), so undo restores both together;
+// `state.lf` is the result of the sample selected in the Cleaning panel.
 const fmt = (e, unit = '') => {
   if (!e || !Number.isFinite(e.value)) return '—';
   if (e.sigma == null) return `${+e.value.toPrecision(4)}${unit}`;
   const d = Math.max(0, 1 - Math.floor(Math.log10(e.sigma)));
-  const group = (v) => v.toFixed(d).replace(/\B(?=(\d{3})+(?!\d))/g, '\u2009');
+  // Thin-space groups of three in the integer part only (0.00056 stays whole).
+  const group = (v) => v.toFixed(d).replace(/^-?\d+/, (i) => i.replace(/\B(?=(\d{3})+(?!\d))/g, '\u2009'));
   return `${group(e.value)} ± ${group(e.sigma)}${unit}`;
 };
+/** χ², with a rounding-level value of an exactly determined fit shown as 0. */
+const chi2Text = (v) => (v < 1e-9 ? '0' : v.toPrecision(3));
+/** A whole number without a minus sign on zero, or a dash. */
+const whole = (v) => (v != null && Number.isFinite(v) ? String(Math.round(v) || 0) : '—');
+const selectedSample = () => find(Number($('clean-target').value));
+Object.defineProperty(state, 'lf', { get: () => { const s = selectedSample(); return (s && s.lf) || null; } });
+state.lfSort = { key: null, dir: 1 };
 
 function fillIons() {
   const sel = $('lf-ion');
@@ -27,37 +38,69 @@ function fillIons() {
   }
 }
 
-function lfOptions() {
-  const cb = parseFloat($('lf-cb').value);
-  const n = parseInt($('band-count').value, 10);
+/** The pipeline options for stored controls and per-band choices. */
+function lfOptions(c, choices) {
+  const cb = parseFloat(c.c_over_b);
+  const n = parseInt(c.band_count, 10);
   return {
     import: {}, spectrum: 0, range: null,
     bands: Number.isFinite(n) && n > 0 ? { fixed: n } : { auto: 6 },
-    shape: $('band-shape').value, baseline: null, max_iterations: 200,
+    shape: c.shape || 'gaussian', baseline: null, max_iterations: 200,
     ligand_field: {
-      ion: $('lf-ion').value, geometry: $('lf-geometry').value,
+      ion: c.ion, geometry: c.geometry,
       c_over_b: Number.isFinite(cb) ? cb : null,
-      free_c: $('lf-free-c').checked, spin_forbidden: $('lf-spin-forbidden').checked,
-      b0_source: $('lf-b0').value,
-      ligand: $('lf-ligand').value || null,
+      free_c: !!c.free_c, spin_forbidden: !!c.spin_forbidden,
+      b0_source: c.b0 || 'common',
+      ligand: c.ligand || null,
+      bands: choices,
     },
   };
 }
 
-async function analyzeSample() {
-  const s = find(Number($('clean-target').value));
-  if (!s) { say('Load a spectrum first.', 'info'); return; }
+/** Runs the pipeline on one sample; returns its ligand-field record (throws on failure). */
+async function analyse(s, controls, choices) {
   const spectrum = { name: s.name, wavenumber: Array.from(s.wavenumber), values: Array.from(s.values), quantity: s.quantity, saturated: s.saturated };
+  const analysis = await runJob(`Analysing ${s.name}…`, 'analyze', { spectrum, options: lfOptions(controls, choices) });
+  const ion = [...$('lf-ion').options].find((o) => o.value === controls.ion);
+  return { sampleId: s.id, analysis, controls, n: ion ? Number(ion.dataset.n) : 3, geometry: controls.geometry, whatIf: null };
+}
+
+const failed = (s, e) => say(e.cancelled ? `${s.name}: analysis cancelled` : `${s.name}: ${e.message || e}`, e.cancelled ? 'info' : 'warn');
+
+async function analyzeSample() {
+  const s = selectedSample();
+  if (!s) { say('Load a spectrum first.', 'info'); return; }
   try {
-    const analysis = await runJob(`Analysing ${s.name}…`, 'analyze', { spectrum, options: lfOptions() });
-    state.lf = { sampleId: s.id, analysis, whatIf: null, n: Number($('lf-ion').selectedOptions[0].dataset.n), geometry: $('lf-geometry').value };
-    if (!analysis.fit) say(`${s.name}: no ligand-field fit — ${analysis.fit_error}`);
-    renderLf();
-    draw();
-    autosaveSoon();
-  } catch (e) {
-    say(e.cancelled ? `${s.name}: analysis cancelled` : `${s.name}: ${e.message || e}`, e.cancelled ? 'info' : 'warn');
+    const rec = await analyse(s, lfControls(), s.lfChoices || []);
+    if (!rec.analysis.fit) say(`${s.name}: no ligand-field fit — ${rec.analysis.fit_error}`);
+    edit(() => { find(s.id).lf = rec; });
+  } catch (e) { failed(s, e); }
+}
+
+async function analyzeAll() {
+  const controls = lfControls();
+  const done = [];
+  for (const s of [...state.samples]) {
+    try { done.push([s.id, await analyse(s, controls, s.lfChoices || [])]); } catch (e) { failed(s, e); if (e.cancelled) break; }
   }
+  const noFit = done.filter(([, r]) => !r.analysis.fit).map(([id]) => find(id).name);
+  if (noFit.length) say(`No ligand-field fit for ${noFit.join(', ')}: see each sample's panel.`);
+  if (done.length) edit(() => done.forEach(([id, rec]) => { const t = find(id); if (t) t.lf = rec; }));
+}
+
+/** Changes one band's choice and reruns the fit with it; undoable with the result. */
+async function choose(energy, value) {
+  const s = selectedSample();
+  if (!s || !s.lf) return;
+  const choice = value === '' ? null : value === '!x' ? { energy, not_dd: true } : { energy, assign: value };
+  // A new choice replaces any earlier one the pipeline would match to this band (within 3 %, pipeline::CHOICE_MATCH).
+  const choices = (s.lfChoices || []).filter((c) => Math.abs(c.energy - energy) > 0.03 * energy);
+  if (choice) choices.push(choice);
+  try {
+    const rec = await analyse(s, s.lf.controls, choices);
+    if (!rec.analysis.fit) { say(`${s.name}: no fit with that choice — ${rec.analysis.fit_error}`); renderLf(); return; }
+    edit(() => { const t = find(s.id); t.lfChoices = choices; t.lf = rec; });
+  } catch (e) { failed(s, e); renderLf(); }
 }
 
 function row(tbody, cells, header = false) {
@@ -65,39 +108,87 @@ function row(tbody, cells, header = false) {
   cells.forEach((c, i) => {
     const td = document.createElement(header && i === 0 ? 'th' : 'td');
     if (header && i === 0) td.scope = 'row';
-    td.textContent = c;
+    if (c instanceof Node) td.append(c); else td.textContent = c;
     tr.append(td);
   });
   tbody.append(tr);
+  return tr;
+}
+
+/** The results card as [label, text] rows (the page and the report). */
+function cardRows(fit) {
+  const b = fit.best, d = b.derived, p = b.parameters;
+  const margin = b.spin.margin != null ? ` — spin change at Δ/B = ${b.spin.spin_change_delta_over_b.toFixed(2)} (margin ${b.spin.margin >= 0 ? '+' : ''}${b.spin.margin.toFixed(2)})` : '';
+  const rows = [
+    ['10Dq (Δ)', fmt(d.delta, ' cm⁻¹')], ['B', fmt(p.b, ' cm⁻¹')], ['C', fmt(p.c, ' cm⁻¹')], ['C/B', fmt(d.c_over_b)],
+    ['β = B/B₀', d.beta ? `${fmt(d.beta)} (B₀ = ${d.b0} cm⁻¹, ${d.b0_source})` : '— (no free-ion B₀)'],
+    ['Dq/B', fmt(d.dq_over_b)], ['ground state', `${b.ground_typeset}, ${b.spin.state}${margin}`],
+  ];
+  if (fit.jorgensen) {
+    const j = fit.jorgensen;
+    rows.push([`Jørgensen estimate (${j.ligand})`, `Δ ≈ ${j.delta ? j.delta.toFixed(0) + ' cm⁻¹' : '—'}, β ≈ ${j.beta ? j.beta.toFixed(2) : '—'} (${j.source})`]);
+  }
+  rows.push(['χ²', `${chi2Text(b.chi2)} (${b.degrees_of_freedom} degrees of freedom)`]);
+  return rows;
+}
+
+/** Every observed band with its assignment (or the reason it has none) and the user's choice. */
+function assignmentRows(lf) {
+  const b = lf.analysis.fit.best;
+  return lf.analysis.observed.map((o) => {
+    const a = b.assignment.find((x) => Math.abs(x.observed - o.energy) < 1e-6 * o.energy);
+    return { energy: o.energy, nm: 1e7 / o.energy, choice: o.not_dd ? '!x' : o.assign || '', state: a ? a.typeset : 'not d–d', calculated: a ? a.calculated : null, residual: a ? a.residual : null };
+  });
+}
+
+/** The states a band can be given: the engine's levels at the fit, spin-allowed first. */
+function stateOptions(lf) {
+  const p = lf.analysis.fit.best.parameters, d = lf.analysis.fit.best.derived;
+  const b = p.b ? p.b.value : 700;
+  const c = p.c ? p.c.value : (d.c_over_b ? d.c_over_b.value : 4.5) * b;
+  const levels = wasm_bindgen.levels(lf.n, lf.geometry, p.dq.value, b, c);
+  const ground = levels[0];
+  const rest = levels.slice(1);
+  return [...rest.filter((l) => l.multiplicity === ground.multiplicity), ...rest.filter((l) => l.multiplicity !== ground.multiplicity)]
+    .map((l) => ({ value: l.label, text: `${l.typeset} (≈ ${Math.round(l.energy)} cm⁻¹)${l.multiplicity === ground.multiplicity ? '' : ' — spin-forbidden'}`, allowed: l.multiplicity === ground.multiplicity }));
+}
+
+function choiceSelect(lf, r, options) {
+  const sel = document.createElement('select');
+  sel.setAttribute('aria-label', `assignment of the band at ${r.energy.toFixed(0)} cm⁻¹`);
+  const add = (parent, value, text) => { const o = document.createElement('option'); o.value = value; o.textContent = text; parent.append(o); };
+  add(sel, '', `automatic (${r.state})`);
+  add(sel, '!x', 'charge transfer / not d–d');
+  for (const [label, allowed] of [['spin-allowed', true], ['spin-forbidden', false]]) {
+    const g = document.createElement('optgroup');
+    g.label = label;
+    options.filter((o) => o.allowed === allowed).forEach((o) => add(g, o.value, o.text));
+    if (g.children.length) sel.append(g);
+  }
+  sel.value = r.choice;
+  sel.addEventListener('change', () => choose(r.energy, sel.value));
+  return sel;
 }
 
 function renderLf() {
+  renderSeries();
   const lf = state.lf;
   const fit = lf && lf.analysis.fit;
   $('lf-results').hidden = !fit;
   if (!fit) return;
-  const b = fit.best, d = b.derived, p = b.parameters;
+  const b = fit.best, p = b.parameters, d = b.derived;
   const card = $('lf-card').tBodies[0];
   card.replaceChildren();
-  row(card, ['10Dq (Δ)', fmt(d.delta, ' cm⁻¹')], true);
-  row(card, ['B', fmt(p.b, ' cm⁻¹')], true);
-  row(card, ['C', fmt(p.c, ' cm⁻¹')], true);
-  row(card, ['C/B', fmt(d.c_over_b)], true);
-  row(card, ['β = B/B₀', d.beta ? `${fmt(d.beta)} (B₀ = ${d.b0} cm⁻¹, ${d.b0_source})` : '— (no free-ion B₀)'], true);
-  row(card, ['Dq/B', fmt(d.dq_over_b)], true);
-  const margin = b.spin.margin != null ? ` — spin change at Δ/B = ${b.spin.spin_change_delta_over_b.toFixed(2)} (margin ${b.spin.margin >= 0 ? '+' : ''}${b.spin.margin.toFixed(2)})` : '';
-  row(card, ['ground state', `${b.ground_typeset}, ${b.spin.state}${margin}`], true);
-  if (fit.jorgensen) {
-    const j = fit.jorgensen;
-    row(card, [`Jørgensen estimate (${j.ligand})`, `Δ ≈ ${j.delta ? j.delta.toFixed(0) + ' cm⁻¹' : '—'}, β ≈ ${j.beta ? j.beta.toFixed(2) : '—'} (${j.source})`], true);
-  }
-  row(card, ['χ²', `${b.chi2.toPrecision(3)} (${b.degrees_of_freedom} degrees of freedom)`], true);
+  for (const r of cardRows(fit)) row(card, r, true);
   const at = $('lf-assignment').tBodies[0];
   at.replaceChildren();
-  for (const a of b.assignment) row(at, [a.observed.toFixed(0), (1e7 / a.observed).toFixed(1), a.typeset, a.calculated.toFixed(0), a.residual.toFixed(0)]);
+  const options = stateOptions(lf);
+  for (const r of assignmentRows(lf)) {
+    row(at, [r.energy.toFixed(0), r.nm.toFixed(1), choiceSelect(lf, r, options), whole(r.calculated), whole(r.residual)]);
+  }
   const w = $('lf-warnings');
   w.replaceChildren();
-  for (const text of [...b.warnings, ...fit.warnings, ...lf.analysis.warnings, ...b.notes]) {
+  for (const text of lfWarnings(lf)) {
     const li = document.createElement('li');
     li.textContent = text;
     w.append(li);
@@ -108,12 +199,17 @@ function renderLf() {
     row(alt, [a.delta_chi2.toFixed(2), a.derived.delta.value.toFixed(0), a.parameters.b ? a.parameters.b.value.toFixed(0) : '—',
       a.assignment.map((x) => x.typeset).join(', '), a.warnings[0] || (a.plausible ? 'higher χ² or a lower band left unobserved' : '')]);
   }
-  const x = d.delta_over_b ? d.delta_over_b.value : 20;
+  const x = lf.whatIf ? lf.whatIf.x : d.delta_over_b ? d.delta_over_b.value : 20;
   $('whatif-x').value = x;
   $('whatif-x-out').textContent = x.toFixed(2);
-  $('whatif-b').value = p.b ? Math.round(p.b.value) : 700;
+  $('whatif-b').value = lf.whatIf ? lf.whatIf.b : p.b ? Math.round(p.b.value) : 700;
   drawDiagram();
 }
+
+const lfWarnings = (lf) => {
+  const b = lf.analysis.fit.best;
+  return [...b.warnings, ...lf.analysis.fit.warnings, ...lf.analysis.warnings, ...b.notes];
+};
 
 /** Transitions (energy, typeset, spin-allowed) at the what-if point, or the fit's predictions. */
 function predictions() {
@@ -122,11 +218,24 @@ function predictions() {
   if (!fit) return [];
   if (!lf.whatIf) return fit.best.predicted.map((p) => ({ x: p.energy, sigma: p.sigma || 0, label: p.typeset, dashed: !p.spin_allowed }));
   const { x, b } = lf.whatIf;
-  const gamma = fit.best.derived.c_over_b ? fit.best.derived.c_over_b.value : 4.5;
-  const levels = wasm_bindgen.levels(lf.n, lf.geometry, x * b / 10, b, gamma * b);
+  const levels = levelsAt(lf, x, b);
   const ground = levels[0];
   return levels.slice(1).filter((l) => l.energy < 50000)
     .map((l) => ({ x: l.energy, sigma: 0, label: l.typeset, dashed: l.multiplicity !== ground.multiplicity }));
+}
+
+/** The engine's levels at Δ/B = x and B = b, at the fit's C/B. */
+function levelsAt(lf, x, b) {
+  const d = lf.analysis.fit.best.derived;
+  const gamma = d.c_over_b ? d.c_over_b.value : 4.5;
+  return wasm_bindgen.levels(lf.n, lf.geometry, x * b / 10, b, gamma * b);
+}
+
+/** The Δ/B and B shown: the what-if point or the fit. */
+function shownPoint(lf) {
+  const b = lf.analysis.fit.best;
+  if (lf.whatIf) return lf.whatIf;
+  return { x: b.derived.delta_over_b ? b.derived.delta_over_b.value : null, b: b.parameters.b ? b.parameters.b.value : null };
 }
 
 function drawDiagram() {
@@ -140,16 +249,89 @@ function drawDiagram() {
   canvas.height = Math.max(1, Math.round(r.height * dpr));
   const b = fit.best;
   const gamma = b.derived.c_over_b ? b.derived.c_over_b.value : 4.5;
-  const xFit = lf.whatIf ? lf.whatIf.x : (b.derived.delta_over_b ? b.derived.delta_over_b.value : null);
-  const bValue = lf.whatIf ? lf.whatIf.b : (b.parameters.b ? b.parameters.b.value : null);
+  const { x: xFit, b: bValue } = shownPoint(lf);
   const observed = xFit != null && bValue ? b.assignment.map((a) => [xFit, a.observed / bValue]) : [];
   const max = Math.max(40, Math.ceil((xFit || 0) * 1.25));
   lf.diagram = { n: lf.n, geometry: lf.geometry, c_over_b: gamma, max_delta_over_b: max, fitted: xFit, observed };
   try {
-    wasm_bindgen.draw_level_diagram(canvas, lf.diagram, dpr);
+    lf.frame = wasm_bindgen.draw_level_diagram(canvas, lf.diagram, dpr);
   } catch (e) {
     say(`The diagram could not be drawn: ${e.message || e}`);
   }
+  if (lf.cursor) showCursor(lf);
+}
+
+// ---------- diagram read-out (pointer and keyboard) ----------
+// The frame from the drawing maps canvas pixels to Δ/B and E/B; the levels
+// at a Δ/B come from the engine (exact, not read off the drawn curves).
+const sub = (v, lo, hi) => Math.min(hi, Math.max(lo, v));
+function cursorAt(lf, x, level) {
+  const pt = shownPoint(lf);
+  const b = pt.b || 1000;
+  const levels = levelsAt(lf, x, b);
+  const k = sub(level, 0, levels.length - 1);
+  lf.cursor = { x, level: k };
+  return { levels, k, b };
+}
+function showCursor(lf) {
+  const f = lf.frame;
+  if (!f) return;
+  const { levels, k, b } = cursorAt(lf, lf.cursor.x, lf.cursor.level);
+  const l = levels[k];
+  const y = l.energy / b;
+  const e = l.energy;
+  $('diagram-readout').textContent = `${l.typeset}: E/B = ${y.toFixed(2)}, E = ${Math.round(e)} cm⁻¹${e > 0 ? ` (${(1e7 / e).toFixed(0)} nm)` : ''} at Δ/B = ${lf.cursor.x.toFixed(2)} (B = ${Math.round(b)} cm⁻¹, level ${k + 1} of ${levels.length})`;
+  const dpr = window.devicePixelRatio || 1;
+  const [L, T, R, B] = f.area;
+  const px = L + (lf.cursor.x - f.x_range[0]) / (f.x_range[1] - f.x_range[0]) * (R - L);
+  const py = B - (y - f.y_range[0]) / (f.y_range[1] - f.y_range[0]) * (B - T);
+  const dot = $('diagram-cursor');
+  dot.hidden = !(py >= T && py <= B);
+  Object.assign(dot.style, { left: `${px / dpr}px`, top: `${py / dpr}px` });
+}
+
+function wireDiagramReadout() {
+  const canvas = $('diagram-canvas');
+  canvas.addEventListener('pointermove', (e) => {
+    const lf = state.lf;
+    const f = lf && lf.frame;
+    if (!f) return;
+    const dpr = window.devicePixelRatio || 1;
+    const r = canvas.getBoundingClientRect();
+    const px = (e.clientX - r.left) * dpr, py = (e.clientY - r.top) * dpr;
+    const [L, T, R, B] = f.area;
+    if (px < L || px > R || py < T || py > B) return;
+    const x = f.x_range[0] + (px - L) / (R - L) * (f.x_range[1] - f.x_range[0]);
+    const y = f.y_range[1] - (py - T) / (B - T) * (f.y_range[1] - f.y_range[0]);
+    const { levels, b } = cursorAt(lf, x, 0);
+    let k = 0;
+    levels.forEach((l, i) => { if (Math.abs(l.energy / b - y) < Math.abs(levels[k].energy / b - y)) k = i; });
+    lf.cursor = { x, level: k };
+    showCursor(lf);
+  });
+  canvas.addEventListener('focus', () => {
+    const lf = state.lf;
+    if (!lf || !lf.frame) return;
+    if (!lf.cursor) lf.cursor = { x: shownPoint(lf).x || lf.frame.x_range[1] / 2, level: 1 };
+    showCursor(lf);
+  });
+  canvas.addEventListener('keydown', (e) => {
+    const lf = state.lf;
+    if (!lf || !lf.frame || !lf.cursor) return;
+    const span = lf.frame.x_range[1] - lf.frame.x_range[0];
+    const step = (e.shiftKey ? 0.05 : 0.01) * span;
+    const moves = {
+      ArrowLeft: () => { lf.cursor.x = sub(lf.cursor.x - step, 0, span); },
+      ArrowRight: () => { lf.cursor.x = sub(lf.cursor.x + step, 0, span); },
+      ArrowUp: () => { lf.cursor.level += 1; },
+      ArrowDown: () => { lf.cursor.level = Math.max(0, lf.cursor.level - 1); },
+      Home: () => { lf.cursor.x = shownPoint(lf).x || 0; },
+    };
+    if (!moves[e.key]) return;
+    e.preventDefault();
+    moves[e.key]();
+    showCursor(lf);
+  });
 }
 
 function whatIf() {
@@ -162,9 +344,96 @@ function whatIf() {
   drawDiagram();
 }
 
+function diagramPng() {
+  if (!state.lf || !state.lf.diagram) return;
+  const canvas = document.createElement('canvas');
+  canvas.width = 2700; canvas.height = 2100;
+  wasm_bindgen.draw_level_diagram(canvas, state.lf.diagram, 3);
+  canvas.toBlob((blob) => download(blob, `${baseName()}-diagram.png`), 'image/png');
+}
+
+// ---------- several samples ----------
+const bestOf = (s) => s.lf.analysis.fit.best;
+const numCell = (e) => ({ value: e ? e.value : -Infinity, text: fmt(e) });
+const textCell = (t) => ({ value: t, text: t });
+/** The results table: heading and, per sample, the cell's sort value and text. */
+const SERIES_COLUMNS = [
+  ['sample', (s) => textCell(s.name)], ['ion', (s) => textCell(`${s.lf.controls.ion} ${s.lf.controls.geometry}`)],
+  ['Δ / cm⁻¹', (s) => numCell(bestOf(s).derived.delta)], ['B / cm⁻¹', (s) => numCell(bestOf(s).parameters.b)],
+  ['β', (s) => numCell(bestOf(s).derived.beta)], ['C/B', (s) => numCell(bestOf(s).derived.c_over_b)],
+  ['Dq/B', (s) => numCell(bestOf(s).derived.dq_over_b)],
+  ['ground state', (s) => textCell(`${bestOf(s).ground_typeset}, ${bestOf(s).spin.state}`)],
+  ['χ²', (s) => ({ value: bestOf(s).chi2, text: chi2Text(bestOf(s).chi2) })],
+];
+/** The samples with a fit, in the table's sort order. */
+function seriesSamples() {
+  const list = state.samples.filter((s) => s.lf && s.lf.analysis.fit);
+  const { key, dir } = state.lfSort;
+  const col = SERIES_COLUMNS[key];
+  if (!col) return list;
+  const order = (a, b) => { const [x, y] = [col[1](a).value, col[1](b).value]; return typeof x === 'number' ? x - y : String(x).localeCompare(String(y)); };
+  return [...list].sort((a, b) => order(a, b) * dir);
+}
+const seriesPoints = () => seriesSamples().map((s) => ({ sample: s.name, delta: bestOf(s).derived.delta, beta: bestOf(s).derived.beta }));
+
+function renderSeries() {
+  const list = seriesSamples();
+  $('series').hidden = list.length < 2;
+  if (list.length < 2) return;
+  const head = $('series-table').tHead.rows[0];
+  head.replaceChildren(...SERIES_COLUMNS.map(([label], i) => {
+    const th = document.createElement('th');
+    th.scope = 'col';
+    const sorted = state.lfSort.key === i;
+    th.setAttribute('aria-sort', sorted ? (state.lfSort.dir > 0 ? 'ascending' : 'descending') : 'none');
+    const button = document.createElement('button');
+    button.type = 'button';
+    button.className = 'sort';
+    button.textContent = `${label}${sorted ? (state.lfSort.dir > 0 ? ' ▲' : ' ▼') : ''}`;
+    button.addEventListener('click', () => {
+      state.lfSort = { key: i, dir: sorted ? -state.lfSort.dir : 1 };
+      renderSeries();
+      $('series-table').tHead.rows[0].cells[i].firstChild.focus();
+      autosaveSoon();
+    });
+    th.append(button);
+    return th;
+  }));
+  const body = $('series-table').tBodies[0];
+  body.replaceChildren();
+  for (const s of list) {
+    const tr = row(body, SERIES_COLUMNS.map(([, get]) => get(s).text));
+    const show = document.createElement('button');
+    show.type = 'button';
+    show.className = 'sort';
+    show.textContent = s.name;
+    show.title = `show the analysis of ${s.name}`;
+    show.addEventListener('click', () => selectSample(s.id));
+    tr.cells[0].replaceChildren(show);
+  }
+  const canvas = $('series-canvas');
+  const dpr = window.devicePixelRatio || 1;
+  const r = canvas.getBoundingClientRect();
+  canvas.width = Math.max(1, Math.round(r.width * dpr));
+  canvas.height = Math.max(1, Math.round(r.height * dpr));
+  try { wasm_bindgen.draw_series_plot(canvas, seriesPoints(), dpr); } catch (e) { say(`The series plot could not be drawn: ${e.message || e}`); }
+}
+
+/** Makes a sample the selected one (its result shows in the panel). */
+function selectSample(id) {
+  $('clean-target').value = String(id);
+  const s = find(id);
+  if (s && s.lf) setLfControls(s.lf.controls);
+  showCleaning();
+  renderBands();
+  renderLf();
+  draw();
+}
+
 function wireLf() {
   fillIons();
   $('lf-analyze').addEventListener('click', analyzeSample);
+  $('lf-analyze-all').addEventListener('click', analyzeAll);
   $('whatif-x').addEventListener('input', whatIf);
   $('whatif-b').addEventListener('input', whatIf);
   $('whatif-reset').addEventListener('click', () => { if (state.lf) { state.lf.whatIf = null; renderLf(); draw(); } });
@@ -176,4 +445,7 @@ function wireLf() {
     const svg = wasm_bindgen.level_diagram_svg(state.lf.diagram);
     download(new Blob([svg], { type: 'image/svg+xml' }), `${baseName()}-diagram.svg`);
   });
+  $('diagram-png').addEventListener('click', diagramPng);
+  $('series-svg').addEventListener('click', () => download(new Blob([wasm_bindgen.series_plot_svg(seriesPoints())], { type: 'image/svg+xml' }), 'series-delta-beta.svg'));
+  wireDiagramReadout();
 }

@@ -9,23 +9,28 @@ const LONG_LINK = 32000; // common practice: some browsers and mail tools cut li
 const lfControls = () => ({
   ion: $('lf-ion').value, geometry: $('lf-geometry').value, c_over_b: $('lf-cb').value,
   free_c: $('lf-free-c').checked, spin_forbidden: $('lf-spin-forbidden').checked, b0: $('lf-b0').value, ligand: $('lf-ligand').value,
+  band_count: $('band-count').value, shape: $('band-shape').value,
 });
 function setLfControls(c) {
   $('lf-ion').value = c.ion; $('lf-geometry').value = c.geometry; $('lf-cb').value = c.c_over_b || '';
   $('lf-free-c').checked = !!c.free_c; $('lf-spin-forbidden').checked = !!c.spin_forbidden; $('lf-b0').value = c.b0 || 'common'; $('lf-ligand').value = c.ligand || '';
+  if (c.band_count !== undefined) { $('band-count').value = c.band_count || ''; $('band-shape').value = c.shape || 'gaussian'; }
 }
 
 function projectDoc() {
-  const keep = ['name', 'file', 'quantity', 'xUnit', 'saturated', 'metadata', 'concentration', 'path', 'colour', 'visible'];
+  const keep = ['name', 'file', 'quantity', 'xUnit', 'saturated', 'metadata', 'concentration', 'path', 'colour', 'visible', 'lfChoices'];
   const selected = state.samples.findIndex((s) => s.id === Number($('clean-target').value));
   return {
     ddlens_project: PROJECT_SCHEMA,
     program: `ddlens ${wasm_bindgen.version()}`,
     saved: new Date().toISOString(),
-    samples: state.samples.map((s) => ({ ...Object.fromEntries(keep.map((k) => [k, s[k]])), wavenumber: Array.from(s.wavenumber), values: Array.from(s.values) })),
+    samples: state.samples.map((s) => ({
+      ...Object.fromEntries(keep.map((k) => [k, s[k]])), wavenumber: Array.from(s.wavenumber), values: Array.from(s.values),
+      ligand_field: s.lf ? { controls: s.lf.controls } : null,
+    })),
     selected,
     bands: { count: $('band-count').value, shape: $('band-shape').value },
-    ligand_field: state.lf ? { controls: lfControls(), sample: state.samples.findIndex((s) => s.id === state.lf.sampleId) } : null,
+    series_sort: state.lfSort,
     view: state.view,
   };
 }
@@ -41,21 +46,23 @@ async function loadProject(doc) {
   }
   edit(() => {
     state.samples = doc.samples.map((s) => ({
-      ...s, id: state.nextId++, raw: { wavenumber: s.wavenumber, values: s.values }, processing: null, fit: null,
+      ...s, id: state.nextId++, raw: { wavenumber: s.wavenumber, values: s.values }, processing: null, fit: null, lf: null, lfChoices: s.lfChoices || [],
       saturated: s.saturated || [], metadata: s.metadata || {}, warnings: [], colour: s.colour || PALETTE[state.nextColour++ % PALETTE.length], visible: s.visible !== false,
     }));
   });
-  state.lf = null;
   if (doc.view) Object.assign(state.view, doc.view);
+  if (doc.series_sort) state.lfSort = doc.series_sort;
   if (doc.bands) { $('band-count').value = doc.bands.count || ''; $('band-shape').value = doc.bands.shape || 'gaussian'; }
-  const pick = (i) => state.samples[i] && ($('clean-target').value = String(state.samples[i].id));
-  pick(doc.selected);
-  if (doc.ligand_field && state.samples[doc.ligand_field.sample]) {
-    setLfControls(doc.ligand_field.controls);
-    pick(doc.ligand_field.sample);
-    await analyzeSample();
+  // Each sample's analysis is recomputed from its stored controls and choices
+  // (an older project kept one `ligand_field` for one sample).
+  const lfOf = (i) => (doc.samples[i].ligand_field || (doc.ligand_field && doc.ligand_field.sample === i ? doc.ligand_field : null));
+  for (const [i, s] of state.samples.entries()) {
+    const lf = lfOf(i);
+    if (!lf) continue;
+    try { s.lf = await analyse(s, lf.controls, s.lfChoices); } catch (e) { failed(s, e); }
   }
   refresh();
+  if (state.samples[doc.selected]) selectSample(state.samples[doc.selected].id);
 }
 
 let autosaveTimer = null;
@@ -105,7 +112,6 @@ function saveProject() {
 
 async function startFresh() {
   try { localStorage.removeItem(AUTOSAVE_KEY); } catch { /* storage disabled */ }
-  state.lf = null;
   history.past = []; history.future = [];
   state.samples = [];
   if (location.hash) window.history.replaceState(null, '', location.href.split('#')[0]);

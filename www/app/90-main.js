@@ -13,7 +13,7 @@ function wire() {
   $('reimport').addEventListener('click', reimport);
   $('reset-view').addEventListener('click', resetView);
   $('busy-cancel').addEventListener('click', () => cancelCurrent && cancelCurrent());
-  $('clean-target').addEventListener('change', () => { showCleaning(); renderBands(); });
+  $('clean-target').addEventListener('change', () => selectSample(Number($('clean-target').value)));
   $('fit-bands').addEventListener('click', fitBands);
   $('bands-csv').addEventListener('click', exportBandsCsv);
   $('bands-copy').addEventListener('click', copyBands);
@@ -63,6 +63,7 @@ async function main() {
   await wasm_bindgen({ module_or_path: wasmModule });
   $('version').textContent = wasm_bindgen.version();
   wireLf();
+  wireReport();
   worker = startWorker(wasmModule);
   await worker.ready;
   // A share link wins over the autosaved workspace, which wins over the demo.
@@ -87,4 +88,4 @@ const ready = main().catch((e) => {
 });
 
 /** What the tests and the console may reach: the page's state and a few actions. */
-const api = { ready, state, draw, undo, redo, get worker() { return worker; } };
+const api = { ready, state, draw, undo, redo, openFiles, analyzeSample, get worker() { return worker; } };
