@@ -107,6 +107,9 @@ pub struct Deconvolution {
     pub fit: BandFit,
     /// (number of bands, BIC) when the count was chosen automatically.
     pub bic_per_band_count: Option<Vec<(usize, f64)>>,
+    /// (number of bands, reduced χ²) for the same counts.
+    #[serde(default)]
+    pub reduced_chi2_per_band_count: Option<Vec<(usize, Option<f64>)>>,
 }
 
 /// The result of an analysis.
@@ -217,11 +220,7 @@ pub fn deconvolve(
     if x.len() < 8 {
         return Err(AnalysisError::TooFewPoints(x.len()));
     }
-    let fit_opts = FitOptions {
-        max_iterations: opts.max_iterations,
-        molar_absorptivity: s.quantity == Quantity::MolarAbsorptivity,
-        ..FitOptions::default()
-    };
+    let fit_opts = fit_options(s, opts);
     match opts.bands {
         BandCount::Auto(max) => {
             let r = bands::select_band_count(
@@ -237,6 +236,7 @@ pub fn deconvolve(
             Ok(Deconvolution {
                 fit: r.best,
                 bic_per_band_count: Some(r.bic),
+                reduced_chi2_per_band_count: Some(r.reduced_chi2),
             })
         }
         BandCount::Fixed(n) => {
@@ -255,8 +255,38 @@ pub fn deconvolve(
             Ok(Deconvolution {
                 fit,
                 bic_per_band_count: None,
+                reduced_chi2_per_band_count: None,
             })
         }
+    }
+}
+
+/// Fits a given band model (the user's edited bands, locks and ties) to a
+/// spectrum with the same points, weights and settings as [`deconvolve`].
+pub fn refit(
+    s: &Spectrum,
+    model: &BandModel,
+    opts: &AnalysisOptions,
+    progress: &mut dyn FnMut(bands::lm::Progress) -> bool,
+) -> Result<Deconvolution, AnalysisError> {
+    let (x, y, w) = fit_points(s, opts.range);
+    if x.len() < 8 {
+        return Err(AnalysisError::TooFewPoints(x.len()));
+    }
+    let fit = bands::fit(&x, &y, Some(&w), model, &fit_options(s, opts), progress)
+        .map_err(AnalysisError::Bands)?;
+    Ok(Deconvolution {
+        fit,
+        bic_per_band_count: None,
+        reduced_chi2_per_band_count: None,
+    })
+}
+
+fn fit_options(s: &Spectrum, opts: &AnalysisOptions) -> FitOptions {
+    FitOptions {
+        max_iterations: opts.max_iterations,
+        molar_absorptivity: s.quantity == Quantity::MolarAbsorptivity,
+        ..FitOptions::default()
     }
 }
 
