@@ -267,7 +267,7 @@ test('fit of 5 bands to 2 000 points in the worker (measured, printed, not asser
     const times = [];
     for (let k = 0; k < 5; k++) {
       const t0 = performance.now();
-      await window.ddlens.worker.run('fit', { x: Float64Array.from(x), y: Float64Array.from(y), n: 5, shape: 'gaussian' });
+      await window.ddlens.worker.run('fit', { x: Float64Array.from(x), y: Float64Array.from(y), request: { options: { bands: { fixed: 5 }, shape: 'gaussian', baseline: 'linear', max_iterations: 200 } } });
       times.push(performance.now() - t0);
     }
     times.sort((a, b) => a - b);
