@@ -171,13 +171,13 @@ test('the baseline preview follows the settings; Apply subtracts it and undo res
   await page.locator('#baseline-method').selectOption('polynomial');
   await page.locator('#baseline-regions').fill('9000-x');
   assert.match(await page.locator('#baseline-status').innerText(), /9000-x/);
-  await page.locator('#baseline-regions').fill('');
+  await page.locator('#baseline-regions').fill('11000-13500, 27500 – 33000');
   await page.locator('#baseline-order').fill('1');
   const line = await preview();
   await page.locator('.plot-area').screenshot({ path: `${OUTPUT}/baseline-preview.png` });
   await page.locator('#clean-apply').click();
   const after = await page.evaluate(() => window.ddlens.state.samples[0]);
-  assert.deepEqual(after.processing.baseline, { polynomial: { order: 1, regions: [] } });
+  assert.deepEqual(after.processing.baseline, { polynomial: { order: 1, regions: [[11000, 13500], [27500, 33000]] } });
   after.values.forEach((v, i) => assert.ok(Math.abs(v - (data[i] - line[i])) < 1e-12, `point ${i}`));
   await page.locator('#undo-button').click();
   assert.deepEqual(await page.evaluate(() => window.ddlens.state.samples[0].values), data);

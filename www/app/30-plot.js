@@ -21,7 +21,7 @@ function figure() {
     if (s.processing && plain) lines.push({ x: s.raw.wavenumber, y: s.raw.values, colour: '#858585', width: 1 });
     lines.push({ x: s.wavenumber, y, colour: s.colour, width: 1.5 });
     const bp = state.baselinePreview;
-    if (bp && bp.id === s.id && plain) lines.push({ x: bp.x, y: bp.y, colour: '#000000', width: 1.5, dashed: true });
+    if (bp && bp.id === s.id && plain) lines.push({ x: bp.x, y: bp.y, colour: '#555555', width: 2, dashed: true });
     const drag = state.drag && state.drag.id === s.id ? state.drag : null;
     const c = drag ? drag.curves : s.curves;
     if (c && plain) {
