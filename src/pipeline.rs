@@ -189,9 +189,12 @@ pub fn pick_spectrum(
         })
 }
 
+/// x, y and weight of the points a band fit uses.
+pub type FitPoints = (Vec<f64>, Vec<f64>, Vec<f64>);
+
 /// The points a band fit uses: inside the range, outside saturated regions,
 /// with their trapezoid weights (mean 1).
-pub fn fit_points(s: &Spectrum, range: Option<[f64; 2]>) -> (Vec<f64>, Vec<f64>, Vec<f64>) {
+pub fn fit_points(s: &Spectrum, range: Option<[f64; 2]>) -> FitPoints {
     let s = match range {
         Some([lo, hi]) => preprocess::crop(s, lo, hi),
         None => s.clone(),
@@ -210,16 +213,22 @@ pub fn fit_points(s: &Spectrum, range: Option<[f64; 2]>) -> (Vec<f64>, Vec<f64>,
     out
 }
 
+/// [`fit_points`] in the options' range, or an error when too few are left to fit.
+fn enough_points(s: &Spectrum, opts: &AnalysisOptions) -> Result<FitPoints, AnalysisError> {
+    let points = fit_points(s, opts.range);
+    if points.0.len() < 8 {
+        return Err(AnalysisError::TooFewPoints(points.0.len()));
+    }
+    Ok(points)
+}
+
 /// Resolves the bands of a spectrum (the band-table half of the analysis).
 pub fn deconvolve(
     s: &Spectrum,
     opts: &AnalysisOptions,
     progress: &mut dyn FnMut(bands::lm::Progress) -> bool,
 ) -> Result<Deconvolution, AnalysisError> {
-    let (x, y, w) = fit_points(s, opts.range);
-    if x.len() < 8 {
-        return Err(AnalysisError::TooFewPoints(x.len()));
-    }
+    let (x, y, w) = enough_points(s, opts)?;
     let fit_opts = fit_options(s, opts);
     match opts.bands {
         BandCount::Auto(max) => {
@@ -269,10 +278,7 @@ pub fn refit(
     opts: &AnalysisOptions,
     progress: &mut dyn FnMut(bands::lm::Progress) -> bool,
 ) -> Result<Deconvolution, AnalysisError> {
-    let (x, y, w) = fit_points(s, opts.range);
-    if x.len() < 8 {
-        return Err(AnalysisError::TooFewPoints(x.len()));
-    }
+    let (x, y, w) = enough_points(s, opts)?;
     let fit = bands::fit(&x, &y, Some(&w), model, &fit_options(s, opts), progress)
         .map_err(AnalysisError::Bands)?;
     Ok(Deconvolution {

@@ -167,11 +167,7 @@ pub fn draw<DB: DrawingBackend>(
         .y_range
         .map(|r| sane_range(r[0].min(r[1]), r[0].max(r[1]), [0.0, 1.0]))
         .unwrap_or_else(|| fig.data_y_range(x));
-    let font = |size: f64| {
-        ("sans-serif", size * scale)
-            .into_font()
-            .color(&palette::INK)
-    };
+    let font = |size: f64| ink_font(size, scale);
 
     // The bottom axis shows wavenumber (energy grows to the right) or wavelength.
     let (bx, to_bottom): ([f64; 2], fn(f64) -> f64) = if fig.nm_bottom {
@@ -202,20 +198,8 @@ pub fn draw<DB: DrawingBackend>(
         .x_label_area_size(if strip { 0 } else { s(40.0) })
         .y_label_area_size(s(62.0))
         .build_cartesian_2d(bx[0]..bx[1], y[0]..y[1])?;
-    chart
-        .configure_mesh()
-        .light_line_style(palette::GRID.mix(0.0))
-        .bold_line_style(palette::GRID)
-        .axis_style(palette::INK.stroke_width(s(1.0)))
-        .label_style(font(12.0))
-        .axis_desc_style(font(13.0))
-        .x_desc(if strip { "" } else { bottom_desc })
-        .y_desc(fig.y_label.as_str())
-        .x_labels(8)
-        .y_labels(6)
-        .x_label_formatter(&|v| format!("{v:.0}"))
-        .y_label_formatter(&|v| trim_number(*v))
-        .draw()?;
+    let x_desc = if strip { "" } else { bottom_desc };
+    draw_mesh(&mut chart, scale, x_desc, &fig.y_label, 6)?;
 
     let clip = |v: f64| v.clamp(y[0], y[1]);
     for span in &fig.shaded {
@@ -334,20 +318,7 @@ pub fn draw<DB: DrawingBackend>(
             .x_label_area_size(s(40.0))
             .y_label_area_size(s(62.0))
             .build_cartesian_2d(bx[0]..bx[1], -r..r)?;
-        strip
-            .configure_mesh()
-            .light_line_style(palette::GRID.mix(0.0))
-            .bold_line_style(palette::GRID)
-            .axis_style(palette::INK.stroke_width(s(1.0)))
-            .label_style(font(12.0))
-            .axis_desc_style(font(13.0))
-            .x_desc(bottom_desc)
-            .y_desc("residual")
-            .x_labels(8)
-            .y_labels(3)
-            .x_label_formatter(&|v| format!("{v:.0}"))
-            .y_label_formatter(&|v| trim_number(*v))
-            .draw()?;
+        draw_mesh(&mut strip, scale, bottom_desc, "residual", 3)?;
         strip.draw_series(LineSeries::new(
             [(bx[0], 0.0), (bx[1], 0.0)],
             palette::INK.mix(0.6).stroke_width(s(1.0)),
@@ -363,10 +334,45 @@ pub fn draw<DB: DrawingBackend>(
     })
 }
 
+/// Text in the axis colour, `size` CSS pixels.
+fn ink_font(size: f64, scale: f64) -> TextStyle<'static> {
+    ("sans-serif", size * scale)
+        .into_font()
+        .color(&palette::INK)
+}
+
+type Chart<'a, DB> = ChartContext<'a, DB, Cartesian2d<RangedCoordf64, RangedCoordf64>>;
+
+/// Grid, axes, tick labels and axis titles of a chart.
+fn draw_mesh<DB: DrawingBackend>(
+    chart: &mut Chart<DB>,
+    scale: f64,
+    x_desc: &str,
+    y_desc: &str,
+    y_labels: usize,
+) -> Result<(), PlotError> {
+    let s = (scale.round().max(1.0)) as u32;
+    chart
+        .configure_mesh()
+        .light_line_style(palette::GRID.mix(0.0))
+        .bold_line_style(palette::GRID)
+        .axis_style(palette::INK.stroke_width(s))
+        .label_style(ink_font(12.0, scale))
+        .axis_desc_style(ink_font(13.0, scale))
+        .x_desc(x_desc)
+        .y_desc(y_desc)
+        .x_labels(8)
+        .y_labels(y_labels)
+        .x_label_formatter(&|v| format!("{v:.0}"))
+        .y_label_formatter(&|v| trim_number(*v))
+        .draw()?;
+    Ok(())
+}
+
 /// Draws curves (x in cm⁻¹, mapped by `to_bottom`) clipped to the visible
 /// ranges, decimated to the pixel columns of the plot area.
 fn draw_lines<DB: DrawingBackend>(
-    chart: &mut ChartContext<DB, Cartesian2d<RangedCoordf64, RangedCoordf64>>,
+    chart: &mut Chart<DB>,
     lines: &[Line],
     bx: [f64; 2],
     y: [f64; 2],
