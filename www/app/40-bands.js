@@ -8,9 +8,12 @@ const est = (e) => (e && Number.isFinite(e.value) ? (e.sigma != null ? `${+e.val
 const selected = () => find(Number($('clean-target').value));
 const LOCKS = [['centre', 'centre'], ['fwhm', 'width'], ['height', 'height']];
 
+/** The baseline fitted under the bands (as `ddlens deconvolve --baseline linear`). */
+const BAND_BASELINE = 'linear';
+
 /** The options of `ddlens deconvolve` for a band count (0: chosen by BIC up to `max`). */
 function bandOptions(n, max = 6) {
-  return { bands: n > 0 ? { fixed: n } : { auto: max }, shape: $('band-shape').value, baseline: 'linear', max_iterations: 200 };
+  return { bands: n > 0 ? { fixed: n } : { auto: max }, shape: $('band-shape').value, baseline: BAND_BASELINE, max_iterations: 200 };
 }
 
 /** Runs the pipeline's band fit in the worker (the same core function as the CLI). */
@@ -61,7 +64,7 @@ async function refitBands() {
   if (!s || !s.model || !s.model.bands.length) { say('Add a band or fit bands first: there is nothing to refit.', 'info'); return; }
   const { bands, ties } = s.model;
   try {
-    const result = await runFit(s, `Refitting ${s.name}…`, bandOptions(bands.length), { bands, ties, baseline: 'linear' });
+    const result = await runFit(s, `Refitting ${s.name}…`, bandOptions(bands.length), { bands, ties, baseline: BAND_BASELINE });
     storeFit(s.id, result, s.model);
   } catch (e) {
     say(e.cancelled ? `${s.name}: refit cancelled` : `${s.name}: ${e.message || e}`, e.cancelled ? 'info' : 'warn');
