@@ -82,7 +82,7 @@ test('visible text meets WCAG AA contrast; every control is named and reached by
     reached.add(await page.evaluate(() => document.activeElement.id));
   }
   for (const id of ['baseline-method', 'baseline-order', 'baseline-regions', 'bic-helper', 'add-band-mode', 'add-centre', 'add-height', 'add-band', 'refit-bands',
-    'band-0-shape', 'band-0-lock-centre', 'band-0-lock-fwhm', 'band-0-lock-height', 'band-0-tie', 'band-0-remove']) {
+    'band-0-shape', 'band-0-centre', 'band-0-fwhm', 'band-0-height', 'band-0-lock-centre', 'band-0-lock-fwhm', 'band-0-lock-height', 'band-0-tie', 'band-0-remove']) {
     assert.ok(reached.has(id), `#${id} is not reached with Tab`);
   }
   assert.deepEqual(log.errors, []);

@@ -17,8 +17,8 @@ const watchLongTasks = (page) => page.evaluate(() => {
   new PerformanceObserver((l) => l.getEntries().forEach((e) => window.longTasks.push(e.duration))).observe({ type: 'longtask' });
 });
 const longest = (page) => page.evaluate(() => Math.max(0, ...window.longTasks));
-/** Centres as the band table shows them (the first number of the centre column). */
-const tableCentres = (page) => page.$$eval('#band-table tbody tr', (rows) => rows.map((r) => parseFloat(r.cells[2].textContent)));
+/** Centres as the band table shows them (the number field of the centre column). */
+const tableCentres = (page) => page.$$eval('#band-table tbody tr', (rows) => rows.map((r) => parseFloat(r.cells[2].querySelector('input').value)));
 const fitted = (page) => page.evaluate(() => { const s = window.ddlens.state.samples.at(-1); return s.fit ? s.fit.fit.bands.map((b) => b.centre.value) : null; });
 
 async function openWithFive(url) {
@@ -115,6 +115,12 @@ test('bands are added, dragged, locked and tied, refitted, and every edit undoes
   await page.locator('.plot-area').screenshot({ path: `${OUTPUT}/bands-edited.png` });
   await page.locator('#undo-button').click();
   assert.equal((await band0()).fwhm, moved.fwhm, 'undo takes back the width drag');
+  // The keyboard's way: type a width into the table; undo takes it back too.
+  await page.locator('#band-0-fwhm').fill('2345');
+  await page.locator('#band-0-fwhm').press('Enter');
+  assert.equal((await band0()).fwhm, 2345);
+  await page.locator('#undo-button').click();
+  assert.equal((await band0()).fwhm, moved.fwhm);
 
   // Lock band 1's centre, tie band 3's width to band 2, refit.
   await page.locator('#band-0-lock-centre').check();

@@ -218,6 +218,20 @@ function bandCells(s, i) {
   return [shape, locks, tieSel, remove];
 }
 
+/** A band's centre, width or height as a number field (the keyboard's way to move a band), with the fit's σ. */
+function valueCell(b, r, i, key, label) {
+  const box = document.createElement('span');
+  const input = control('input', `band-${i}-${key}`, `band ${i + 1} ${label}`, { type: 'number', step: 'any', value: String(+b[key].toPrecision(6)) }, (e) => {
+    const v = parseFloat(e.target.value);
+    if (Number.isFinite(v) && (key === 'height' || v > 0)) editModel((x) => { x.bands[i][key] = v; });
+    else { say(`Band ${i + 1}: the ${label.split(' ')[0]} must be a${key === 'height' ? '' : ' positive'} number.`); renderBands(); }
+  });
+  box.append(input);
+  const sigma = r[key] && r[key].sigma;
+  if (sigma != null) box.append(` ± ${+sigma.toPrecision(2)}`);
+  return box;
+}
+
 function renderBands() {
   const s = selected();
   const m = s && s.model;
@@ -231,10 +245,11 @@ function renderBands() {
     : `${s.name}: ${m.bands.length} bands as set (not fitted; “Refit from these bands” fits them)`;
   const focused = document.activeElement && document.activeElement.id;
   $('band-table').tBodies[0].replaceChildren(...m.bands.map((b, i) => {
-    const r = fit ? fit.bands[i] : { centre: { value: b.centre }, centre_nm: { value: 1e7 / b.centre }, fwhm: { value: b.fwhm }, height: { value: b.height } };
+    const r = fit ? fit.bands[i] : { centre_nm: { value: 1e7 / b.centre } };
     const [shape, locks, tie, remove] = bandCells(s, i);
     const tr = document.createElement('tr');
-    for (const v of [String(i + 1), shape, est(r.centre), est(r.centre_nm), est(r.fwhm), est(r.height), est(r.area), est(r.oscillator_strength), r.class || '—', locks, tie, remove]) {
+    for (const v of [String(i + 1), shape, valueCell(b, r, i, 'centre', 'centre / cm⁻¹'), est(r.centre_nm), valueCell(b, r, i, 'fwhm', 'FWHM / cm⁻¹'), valueCell(b, r, i, 'height', 'height'),
+      est(r.area), est(r.oscillator_strength), r.class || '—', locks, tie, remove]) {
       const td = document.createElement('td');
       td.append(v);
       tr.append(td);
