@@ -121,6 +121,9 @@ pub struct Deconvolution {
     pub fit: BandFit,
     /// (number of bands, BIC) when the count was chosen automatically.
     pub bic_per_band_count: Option<Vec<(usize, f64)>>,
+    /// (number of bands, reduced χ²) for the same counts.
+    #[serde(default)]
+    pub reduced_chi2_per_band_count: Option<Vec<(usize, Option<f64>)>>,
 }
 
 /// The result of an analysis.
@@ -200,9 +203,12 @@ pub fn pick_spectrum(
         })
 }
 
+/// x, y and weight of the points a band fit uses.
+pub type FitPoints = (Vec<f64>, Vec<f64>, Vec<f64>);
+
 /// The points a band fit uses: inside the range, outside saturated regions,
 /// with their trapezoid weights (mean 1).
-pub fn fit_points(s: &Spectrum, range: Option<[f64; 2]>) -> (Vec<f64>, Vec<f64>, Vec<f64>) {
+pub fn fit_points(s: &Spectrum, range: Option<[f64; 2]>) -> FitPoints {
     let s = match range {
         Some([lo, hi]) => preprocess::crop(s, lo, hi),
         None => s.clone(),
@@ -221,21 +227,23 @@ pub fn fit_points(s: &Spectrum, range: Option<[f64; 2]>) -> (Vec<f64>, Vec<f64>,
     out
 }
 
+/// [`fit_points`] in the options' range, or an error when too few are left to fit.
+fn enough_points(s: &Spectrum, opts: &AnalysisOptions) -> Result<FitPoints, AnalysisError> {
+    let points = fit_points(s, opts.range);
+    if points.0.len() < 8 {
+        return Err(AnalysisError::TooFewPoints(points.0.len()));
+    }
+    Ok(points)
+}
+
 /// Resolves the bands of a spectrum (the band-table half of the analysis).
 pub fn deconvolve(
     s: &Spectrum,
     opts: &AnalysisOptions,
     progress: &mut dyn FnMut(bands::lm::Progress) -> bool,
 ) -> Result<Deconvolution, AnalysisError> {
-    let (x, y, w) = fit_points(s, opts.range);
-    if x.len() < 8 {
-        return Err(AnalysisError::TooFewPoints(x.len()));
-    }
-    let fit_opts = FitOptions {
-        max_iterations: opts.max_iterations,
-        molar_absorptivity: s.quantity == Quantity::MolarAbsorptivity,
-        ..FitOptions::default()
-    };
+    let (x, y, w) = enough_points(s, opts)?;
+    let fit_opts = fit_options(s, opts);
     let candidates = match opts.baseline {
         Some(b) => vec![b],
         None => vec![BaselineModel::Linear, BaselineModel::Scattering],
@@ -309,6 +317,7 @@ fn deconvolve_with(
             Ok(Deconvolution {
                 fit: r.best,
                 bic_per_band_count: Some(r.bic),
+                reduced_chi2_per_band_count: Some(r.reduced_chi2),
             })
         }
         BandCount::Fixed(n) => {
@@ -327,8 +336,35 @@ fn deconvolve_with(
             Ok(Deconvolution {
                 fit,
                 bic_per_band_count: None,
+                reduced_chi2_per_band_count: None,
             })
         }
+    }
+}
+
+/// Fits a given band model (the user's edited bands, locks and ties) to a
+/// spectrum with the same points, weights and settings as [`deconvolve`].
+pub fn refit(
+    s: &Spectrum,
+    model: &BandModel,
+    opts: &AnalysisOptions,
+    progress: &mut dyn FnMut(bands::lm::Progress) -> bool,
+) -> Result<Deconvolution, AnalysisError> {
+    let (x, y, w) = enough_points(s, opts)?;
+    let fit = bands::fit(&x, &y, Some(&w), model, &fit_options(s, opts), progress)
+        .map_err(AnalysisError::Bands)?;
+    Ok(Deconvolution {
+        fit,
+        bic_per_band_count: None,
+        reduced_chi2_per_band_count: None,
+    })
+}
+
+fn fit_options(s: &Spectrum, opts: &AnalysisOptions) -> FitOptions {
+    FitOptions {
+        max_iterations: opts.max_iterations,
+        molar_absorptivity: s.quantity == Quantity::MolarAbsorptivity,
+        ..FitOptions::default()
     }
 }
 

@@ -232,4 +232,50 @@ fn band_count_selection_prefers_the_true_count() {
     )
     .unwrap();
     assert_eq!(report.recommended, 2, "{:?}", report.bic);
+    // χ²ᵥ is given for the same counts; one band leaves the second unexplained.
+    let counts: Vec<usize> = report.reduced_chi2.iter().map(|r| r.0).collect();
+    assert_eq!(counts, report.bic.iter().map(|r| r.0).collect::<Vec<_>>());
+    let chi = |n: usize| {
+        report
+            .reduced_chi2
+            .iter()
+            .find(|r| r.0 == n)
+            .unwrap()
+            .1
+            .unwrap()
+    };
+    assert!(chi(1) > 10.0 * chi(2), "χ²ᵥ {:?}", report.reduced_chi2);
+}
+
+#[test]
+fn edited_bands_are_evaluated_with_the_fitted_baseline() {
+    let x = grid(300);
+    let y: Vec<f64> = x
+        .iter()
+        .map(|&v| gaussian(v, 16_000.0, 3_000.0, 0.8) + 0.05)
+        .collect();
+    let model = BandModel {
+        bands: vec![spec(16_500.0, 2_500.0, 0.5)],
+        baseline: BaselineModel::Constant,
+        ties: Vec::new(),
+    };
+    let fit = bands::fit(&x, &y, None, &model, &FitOptions::default(), &mut |_| true).unwrap();
+    // A band moved by the user: the closed-form Gaussian (IUPAC Gold Book G02597)
+    // plus the fitted constant.
+    let moved = [spec(20_000.0, 2_000.0, 0.3)];
+    let (total, parts, base) = bands::evaluate_bands(&x, &moved, Some(&fit.baseline));
+    let a0 = fit.baseline.coefficients[0].value;
+    for (i, &v) in x.iter().enumerate() {
+        assert!((parts[0][i] - gaussian(v, 20_000.0, 2_000.0, 0.3)).abs() < 1e-12);
+        assert!((total[i] - parts[0][i] - a0).abs() < 1e-12 && (base[i] - a0).abs() < 1e-12);
+    }
+    // A baseline whose coefficients do not fit its model is left out, never indexed past.
+    let mut broken = fit.baseline.clone();
+    broken.model = BaselineModel::Polynomial(5);
+    let (total, _, base) = bands::evaluate_bands(&x, &moved, Some(&broken));
+    assert!(base.iter().all(|b| *b == 0.0) && total.iter().all(|t| t.is_finite()));
+    assert!(bands::evaluate_bands(&x, &[], None)
+        .0
+        .iter()
+        .all(|t| *t == 0.0));
 }

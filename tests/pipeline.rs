@@ -205,3 +205,50 @@ fn user_choices_reach_the_fit_matched_by_energy() {
         .iter()
         .any(|w| w.contains("5000 cm⁻¹ matches no band")));
 }
+
+/// `refit` starts from given bands and keeps their locks and ties, on the
+/// same weighted points as `deconvolve` (fixtures/bands/README.md: five Gaussians).
+#[test]
+fn refit_keeps_locks_and_ties_and_matches_deconvolve_when_unchanged() {
+    use ddlens::bands::{BandModel, BaselineModel, Tie};
+    use ddlens::pipeline::{deconvolve, pick_spectrum, refit};
+    let bytes = std::fs::read("fixtures/bands/five_gaussians_2000.txt").unwrap();
+    let opts = AnalysisOptions {
+        bands: BandCount::Fixed(5),
+        ..AnalysisOptions::default()
+    };
+    let s = pick_spectrum(&bytes, "five.txt", &opts).unwrap();
+    let auto = deconvolve(&s, &opts, &mut |_| true).unwrap().fit;
+    let mut bands: Vec<_> = auto
+        .bands
+        .iter()
+        .map(|b| ddlens::bands::BandSpec {
+            shape: b.shape,
+            centre: b.centre.value,
+            fwhm: b.fwhm.value,
+            height: b.height.value,
+            extra: None,
+            fixed: Vec::new(),
+        })
+        .collect();
+    let model = BandModel {
+        bands: bands.clone(),
+        baseline: BaselineModel::Linear,
+        ties: Vec::new(),
+    };
+    let again = refit(&s, &model, &opts, &mut |_| true).unwrap().fit;
+    for (a, b) in auto.bands.iter().zip(&again.bands) {
+        assert!((a.centre.value - b.centre.value).abs() < 1e-3 * a.centre.value);
+    }
+    bands[0].centre += 300.0;
+    bands[0].fixed = vec!["centre".into()];
+    let model = BandModel {
+        bands,
+        baseline: BaselineModel::Linear,
+        ties: vec![Tie::EqualFwhm { band: 2, to: 1 }],
+    };
+    let edited = refit(&s, &model, &opts, &mut |_| true).unwrap().fit;
+    assert_eq!(edited.bands[0].centre.value, model.bands[0].centre);
+    assert_eq!(edited.bands[0].centre.sigma, None);
+    assert_eq!(edited.bands[2].fwhm.value, edited.bands[1].fwhm.value);
+}

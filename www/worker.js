@@ -9,11 +9,8 @@ const jobs = {
   import: (msg) => wasm_bindgen.import_spectrum(msg.bytes, msg.name, msg.options || null),
   // The whole pipeline on one spectrum (the same function as `ddlens analyze`).
   analyze: (msg) => wasm_bindgen.analyze(msg.spectrum, msg.options),
-  // Automatic starting bands (n = 0: the core chooses), then the fit.
-  fit: (msg, progress) => {
-    const bands = wasm_bindgen.guess_bands(msg.x, msg.y, msg.n || 0).map((b) => ({ ...b, shape: msg.shape || b.shape }));
-    return wasm_bindgen.fit_bands(msg.x, msg.y, { bands, baseline: msg.baseline || 'linear', ties: [] }, (it) => { progress(it); return true; });
-  },
+  // The band fit of `ddlens deconvolve` (automatic guess, or the user's bands in request.model).
+  fit: (msg, progress) => wasm_bindgen.deconvolve_bands(msg.x, msg.y, msg.request, (it) => { progress(it); return true; }),
 };
 
 let ready = null;

@@ -710,43 +710,68 @@ pub fn band_class(epsilon_max: f64) -> &'static str {
 
 /// The fitted model at `x`: (total, one curve per band, baseline).
 pub fn evaluate(x: &[f64], fit: &BandFit) -> (Vec<f64>, Vec<Vec<f64>>, Vec<f64>) {
-    let mut model = BandModel {
-        bands: Vec::new(),
-        baseline: fit.baseline.model,
-        ties: Vec::new(),
-    };
-    let mut p = Vec::new();
-    for b in &fit.bands {
-        model.bands.push(BandSpec {
+    let bands: Vec<BandSpec> = fit
+        .bands
+        .iter()
+        .map(|b| BandSpec {
             shape: b.shape,
             centre: b.centre.value,
             fwhm: b.fwhm.value,
             height: b.height.value,
             extra: b.extra.map(|e| e.value),
             fixed: Vec::new(),
-        });
-        p.extend([b.centre.value, b.fwhm.value, b.height.value]);
-        if let Some(e) = b.extra {
-            p.push(e.value);
+        })
+        .collect();
+    evaluate_bands(x, &bands, Some(&fit.baseline))
+}
+
+/// Bands (at their given values) plus a fitted baseline (none: zero) at `x`:
+/// (total, one curve per band, baseline). Used to redraw bands the user edits.
+pub fn evaluate_bands(
+    x: &[f64],
+    bands: &[BandSpec],
+    baseline: Option<&BaselineResult>,
+) -> (Vec<f64>, Vec<Vec<f64>>, Vec<f64>) {
+    let mut p = Vec::new();
+    let mut band_start = Vec::new();
+    for b in bands {
+        band_start.push(p.len());
+        p.extend([b.centre, b.fwhm, b.height]);
+        if b.shape.has_extra() {
+            p.push(b.extra.unwrap_or_else(|| b.shape.default_extra(b.fwhm)));
         }
     }
-    p.extend(fit.baseline.coefficients.iter().map(|c| c.value));
+    let baseline_start = p.len();
+    let (model, x_mid, x_half, x_max) = match baseline {
+        Some(bl) => {
+            p.extend(bl.coefficients.iter().map(|c| c.value));
+            (bl.model, bl.x_mid, bl.x_half, bl.x_max)
+        }
+        None => (BaselineModel::None, 0.0, 1.0, 1.0),
+    };
+    // A baseline whose coefficient count does not match its model is dropped.
+    let expected = match model {
+        BaselineModel::None => 0,
+        BaselineModel::Constant => 1,
+        BaselineModel::Linear => 2,
+        BaselineModel::Polynomial(k) => k + 1,
+        BaselineModel::Scattering => 3,
+        BaselineModel::ChargeTransferTail => 4,
+    };
+    let model = if p.len() - baseline_start == expected {
+        model
+    } else {
+        p.truncate(baseline_start);
+        BaselineModel::None
+    };
     let compiled = Compiled {
         x,
         y: x,
         sqrt_w: Vec::new(),
-        shapes: model.bands.iter().map(|b| b.shape).collect(),
-        band_start: {
-            let mut starts = Vec::new();
-            let mut at = 0;
-            for b in &model.bands {
-                starts.push(at);
-                at += if b.shape.has_extra() { 4 } else { 3 };
-            }
-            starts
-        },
-        baseline: model.baseline,
-        baseline_start: p.len() - fit.baseline.coefficients.len(),
+        shapes: bands.iter().map(|b| b.shape).collect(),
+        band_start,
+        baseline: model,
+        baseline_start,
         params: p
             .iter()
             .map(|&v| ParamDef {
@@ -759,9 +784,17 @@ pub fn evaluate(x: &[f64], fit: &BandFit) -> (Vec<f64>, Vec<Vec<f64>>, Vec<f64>)
             })
             .collect(),
         free_count: 0,
-        x_mid: fit.baseline.x_mid,
-        x_half: fit.baseline.x_half,
-        x_max: fit.baseline.x_max,
+        x_mid,
+        x_half: if x_half.is_finite() && x_half != 0.0 {
+            x_half
+        } else {
+            1.0
+        },
+        x_max: if x_max.is_finite() && x_max != 0.0 {
+            x_max
+        } else {
+            1.0
+        },
     };
     compiled.curves(&p, x)
 }
@@ -771,6 +804,9 @@ pub fn evaluate(x: &[f64], fit: &BandFit) -> (Vec<f64>, Vec<Vec<f64>>, Vec<f64>)
 pub struct BandCountReport {
     /// (number of bands, BIC) for every count that could be fitted.
     pub bic: Vec<(usize, f64)>,
+    /// (number of bands, reduced χ²) for the same counts.
+    #[serde(default)]
+    pub reduced_chi2: Vec<(usize, Option<f64>)>,
     pub recommended: usize,
     pub best: BandFit,
 }
@@ -812,9 +848,14 @@ pub fn select_band_count(
         return Err(last_error.unwrap_or(BandFitError::ConstantData));
     };
     let bic = fits.iter().map(|f| (f.0, f.1)).collect();
+    let reduced_chi2 = fits
+        .iter()
+        .map(|f| (f.0, f.2.statistics.reduced_chi2))
+        .collect();
     let (recommended, _, best) = fits.swap_remove(pos);
     Ok(BandCountReport {
         bic,
+        reduced_chi2,
         recommended,
         best,
     })

@@ -1,9 +1,11 @@
 //! The spectrum figure: wavenumber (cm⁻¹) on the bottom axis, wavelength
 //! (nm) on a top axis with its own non-linear ticks, lines for spectra and
 //! fitted sums, translucent fills for band components, shaded spans for
-//! flagged regions and vertical markers for predicted transitions.
+//! flagged regions, vertical markers for predicted transitions, drag handles
+//! of edited bands and an optional residual strip under the plot.
 
 use super::{palette, PlotError};
+use plotters::coord::types::RangedCoordf64;
 use plotters::coord::Shift;
 use plotters::prelude::*;
 use plotters::style::text_anchor;
@@ -41,6 +43,16 @@ pub struct Marker {
     pub dashed: bool,
 }
 
+/// A drag handle on the plot (a band's peak or half-width point), x in cm⁻¹.
+#[derive(Debug, Clone, Default, Serialize, Deserialize)]
+pub struct Handle {
+    pub x: f64,
+    pub y: f64,
+    /// Drawn as a ring instead of a filled dot.
+    #[serde(default)]
+    pub hollow: bool,
+}
+
 /// What to draw and how.
 #[derive(Debug, Clone, Default, Serialize, Deserialize)]
 pub struct SpectrumFigure {
@@ -50,6 +62,12 @@ pub struct SpectrumFigure {
     pub shaded: Vec<[f64; 2]>,
     #[serde(default)]
     pub markers: Vec<Marker>,
+    #[serde(default)]
+    pub handles: Vec<Handle>,
+    /// Curves of the residual strip (data − fit) drawn under the plot on the
+    /// same x axis; no strip when empty.
+    #[serde(default)]
+    pub residuals: Vec<Line>,
     /// Visible x range (cm⁻¹); from the data when absent.
     pub x_range: Option<[f64; 2]>,
     pub y_range: Option<[f64; 2]>,
@@ -130,6 +148,9 @@ pub fn nice_ticks(lo: f64, hi: f64, target: usize) -> Vec<f64> {
     (first..=last).map(|i| i as f64 * step).collect()
 }
 
+/// Share of the figure's height given to the residual strip.
+const STRIP_SHARE: f64 = 0.24;
+
 /// Draws the figure on `root` and returns the pixel mapping of its plot area.
 pub fn draw<DB: DrawingBackend>(
     root: &DrawingArea<DB, Shift>,
@@ -146,11 +167,7 @@ pub fn draw<DB: DrawingBackend>(
         .y_range
         .map(|r| sane_range(r[0].min(r[1]), r[0].max(r[1]), [0.0, 1.0]))
         .unwrap_or_else(|| fig.data_y_range(x));
-    let font = |size: f64| {
-        ("sans-serif", size * scale)
-            .into_font()
-            .color(&palette::INK)
-    };
+    let font = |size: f64| ink_font(size, scale);
 
     // The bottom axis shows wavenumber (energy grows to the right) or wavelength.
     let (bx, to_bottom): ([f64; 2], fn(f64) -> f64) = if fig.nm_bottom {
@@ -158,33 +175,31 @@ pub fn draw<DB: DrawingBackend>(
     } else {
         (x, |v| v)
     };
-
-    let mut chart = ChartBuilder::on(root)
-        .margin(s(10.0))
-        .margin_right(s(18.0))
-        .margin_top(s(44.0)) // room for the top axis, drawn by hand below
-        .x_label_area_size(s(40.0))
-        .y_label_area_size(s(62.0))
-        .build_cartesian_2d(bx[0]..bx[1], y[0]..y[1])?;
     let bottom_desc = if fig.nm_bottom {
         "wavelength / nm"
     } else {
         "wavenumber / cm⁻¹"
     };
-    chart
-        .configure_mesh()
-        .light_line_style(palette::GRID.mix(0.0))
-        .bold_line_style(palette::GRID)
-        .axis_style(palette::INK.stroke_width(s(1.0)))
-        .label_style(font(12.0))
-        .axis_desc_style(font(13.0))
-        .x_desc(bottom_desc)
-        .y_desc(fig.y_label.as_str())
-        .x_labels(8)
-        .y_labels(6)
-        .x_label_formatter(&|v| format!("{v:.0}"))
-        .y_label_formatter(&|v| trim_number(*v))
-        .draw()?;
+    // With a residual strip the bottom axis moves under the strip.
+    let strip = !fig.residuals.is_empty();
+    let (main_area, strip_area) = if strip {
+        let h = root.dim_in_pixel().1 as f64;
+        let (a, b) = root.split_vertically((h * (1.0 - STRIP_SHARE)).round() as u32);
+        (a, Some(b))
+    } else {
+        (root.clone(), None)
+    };
+
+    let mut chart = ChartBuilder::on(&main_area)
+        .margin(s(10.0))
+        .margin_right(s(18.0))
+        .margin_top(s(44.0)) // room for the top axis, drawn by hand below
+        .margin_bottom(if strip { 0 } else { s(10.0) })
+        .x_label_area_size(if strip { 0 } else { s(40.0) })
+        .y_label_area_size(s(62.0))
+        .build_cartesian_2d(bx[0]..bx[1], y[0]..y[1])?;
+    let x_desc = if strip { "" } else { bottom_desc };
+    draw_mesh(&mut chart, scale, x_desc, &fig.y_label, 6)?;
 
     let clip = |v: f64| v.clamp(y[0], y[1]);
     for span in &fig.shaded {
@@ -207,36 +222,7 @@ pub fn draw<DB: DrawingBackend>(
             )))?;
         }
     }
-    let (px_lo, _) = chart.backend_coord(&(bx[0], y[1]));
-    let (px_hi, _) = chart.backend_coord(&(bx[1], y[1]));
-    let columns = (px_hi - px_lo).unsigned_abs().max(1) as usize;
-    for line in &fig.lines {
-        let colour = palette::parse_hex(&line.colour);
-        let visible: Vec<(f64, f64)> = line
-            .x
-            .iter()
-            .zip(&line.y)
-            .filter(|(a, b)| a.is_finite() && b.is_finite())
-            .map(|(a, b)| (to_bottom(*a), *b))
-            .collect();
-        let visible = clip_to_x_range(visible, bx);
-        let pts = decimate(&visible, bx, columns)
-            .into_iter()
-            .map(|(a, b)| (a, clip(b)));
-        if line.fill {
-            chart.draw_series(AreaSeries::new(pts, clip(0.0), colour.mix(0.25).filled()))?;
-        } else if line.dashed {
-            let v: Vec<_> = pts.collect();
-            chart.draw_series(DashedLineSeries::new(
-                v,
-                s(6.0),
-                s(4.0),
-                colour.stroke_width(s(line.width)),
-            ))?;
-        } else {
-            chart.draw_series(LineSeries::new(pts, colour.stroke_width(s(line.width))))?;
-        }
-    }
+    draw_lines(&mut chart, &fig.lines, bx, y, to_bottom, scale)?;
     for m in &fig.markers {
         let xm = to_bottom(m.x);
         if xm < bx[0] || xm > bx[1] {
@@ -259,6 +245,25 @@ pub fn draw<DB: DrawingBackend>(
             (px + s(3.0) as i32, py + s(4.0) as i32),
             font(11.0).transform(FontTransform::Rotate90),
         ))?;
+    }
+    for h in &fig.handles {
+        let xh = to_bottom(h.x);
+        if !(xh >= bx[0] && xh <= bx[1] && h.y.is_finite()) {
+            continue;
+        }
+        let at = (xh, clip(h.y));
+        chart.draw_series([
+            Circle::new(at, s(6.0), WHITE.filled()),
+            Circle::new(
+                at,
+                s(5.0),
+                if h.hollow {
+                    palette::INK.stroke_width(s(2.0))
+                } else {
+                    palette::INK.filled()
+                },
+            ),
+        ])?;
     }
 
     // The top axis: the other unit, with its own (non-linear) ticks.
@@ -294,6 +299,32 @@ pub fn draw<DB: DrawingBackend>(
         text_anchor::VPos::Bottom,
     ));
     root.draw(&Text::new(top_desc, (right, top - s(21.0) as i32), desc))?;
+
+    // The residual strip: same x axis, its own symmetric y range.
+    if let Some(area) = strip_area {
+        let mut worst = 0.0f64;
+        for l in &fig.residuals {
+            for (xv, yv) in l.x.iter().zip(&l.y) {
+                if *xv >= x[0] && *xv <= x[1] && yv.is_finite() {
+                    worst = worst.max(yv.abs());
+                }
+            }
+        }
+        let r = if worst > 0.0 { 1.1 * worst } else { 1.0 };
+        let mut strip = ChartBuilder::on(&area)
+            .margin(s(10.0))
+            .margin_right(s(18.0))
+            .margin_top(s(6.0))
+            .x_label_area_size(s(40.0))
+            .y_label_area_size(s(62.0))
+            .build_cartesian_2d(bx[0]..bx[1], -r..r)?;
+        draw_mesh(&mut strip, scale, bottom_desc, "residual", 3)?;
+        strip.draw_series(LineSeries::new(
+            [(bx[0], 0.0), (bx[1], 0.0)],
+            palette::INK.mix(0.6).stroke_width(s(1.0)),
+        ))?;
+        draw_lines(&mut strip, &fig.residuals, bx, [-r, r], to_bottom, scale)?;
+    }
     root.present()?;
     Ok(Frame {
         area: [left as f64, top as f64, right as f64, bottom as f64],
@@ -301,6 +332,86 @@ pub fn draw<DB: DrawingBackend>(
         y_range: y,
         nm_bottom: fig.nm_bottom,
     })
+}
+
+/// Text in the axis colour, `size` CSS pixels.
+fn ink_font(size: f64, scale: f64) -> TextStyle<'static> {
+    ("sans-serif", size * scale)
+        .into_font()
+        .color(&palette::INK)
+}
+
+type Chart<'a, DB> = ChartContext<'a, DB, Cartesian2d<RangedCoordf64, RangedCoordf64>>;
+
+/// Grid, axes, tick labels and axis titles of a chart.
+fn draw_mesh<DB: DrawingBackend>(
+    chart: &mut Chart<DB>,
+    scale: f64,
+    x_desc: &str,
+    y_desc: &str,
+    y_labels: usize,
+) -> Result<(), PlotError> {
+    let s = (scale.round().max(1.0)) as u32;
+    chart
+        .configure_mesh()
+        .light_line_style(palette::GRID.mix(0.0))
+        .bold_line_style(palette::GRID)
+        .axis_style(palette::INK.stroke_width(s))
+        .label_style(ink_font(12.0, scale))
+        .axis_desc_style(ink_font(13.0, scale))
+        .x_desc(x_desc)
+        .y_desc(y_desc)
+        .x_labels(8)
+        .y_labels(y_labels)
+        .x_label_formatter(&|v| format!("{v:.0}"))
+        .y_label_formatter(&|v| trim_number(*v))
+        .draw()?;
+    Ok(())
+}
+
+/// Draws curves (x in cm⁻¹, mapped by `to_bottom`) clipped to the visible
+/// ranges, decimated to the pixel columns of the plot area.
+fn draw_lines<DB: DrawingBackend>(
+    chart: &mut Chart<DB>,
+    lines: &[Line],
+    bx: [f64; 2],
+    y: [f64; 2],
+    to_bottom: fn(f64) -> f64,
+    scale: f64,
+) -> Result<(), PlotError> {
+    let s = |v: f64| (v * scale).round().max(1.0) as u32;
+    let clip = |v: f64| v.clamp(y[0], y[1]);
+    let (px_lo, _) = chart.backend_coord(&(bx[0], y[1]));
+    let (px_hi, _) = chart.backend_coord(&(bx[1], y[1]));
+    let columns = (px_hi - px_lo).unsigned_abs().max(1) as usize;
+    for line in lines {
+        let colour = palette::parse_hex(&line.colour);
+        let visible: Vec<(f64, f64)> = line
+            .x
+            .iter()
+            .zip(&line.y)
+            .filter(|(a, b)| a.is_finite() && b.is_finite())
+            .map(|(a, b)| (to_bottom(*a), *b))
+            .collect();
+        let visible = clip_to_x_range(visible, bx);
+        let pts = decimate(&visible, bx, columns)
+            .into_iter()
+            .map(|(a, b)| (a, clip(b)));
+        if line.fill {
+            chart.draw_series(AreaSeries::new(pts, clip(0.0), colour.mix(0.25).filled()))?;
+        } else if line.dashed {
+            let v: Vec<_> = pts.collect();
+            chart.draw_series(DashedLineSeries::new(
+                v,
+                s(6.0),
+                s(4.0),
+                colour.stroke_width(s(line.width)),
+            ))?;
+        } else {
+            chart.draw_series(LineSeries::new(pts, colour.stroke_width(s(line.width))))?;
+        }
+    }
+    Ok(())
 }
 
 /// The part of a polyline inside `[range[0], range[1]]` in x, sorted by x,
@@ -469,5 +580,43 @@ mod tests {
             "500 nm = 20000 cm⁻¹ should be a top tick"
         );
         assert!(to_svg(&SpectrumFigure::default(), 300, 200).is_ok());
+    }
+
+    #[test]
+    fn residual_strip_carries_the_bottom_axis_and_handles_are_drawn() {
+        let line = |y: Vec<f64>| Line {
+            x: vec![10000.0, 20000.0, 30000.0],
+            y,
+            colour: "#000000".into(),
+            width: 1.0,
+            ..Default::default()
+        };
+        let mut fig = SpectrumFigure {
+            lines: vec![line(vec![0.1, 0.5, 0.3])],
+            ..Default::default()
+        };
+        let plain = to_svg(&fig, 600, 400).unwrap();
+        fig.residuals = vec![line(vec![0.01, -0.02, f64::NAN])];
+        fig.handles = vec![
+            Handle {
+                x: 20000.0,
+                y: 0.5,
+                hollow: false,
+            },
+            Handle {
+                x: f64::NAN,
+                y: 0.2,
+                hollow: true,
+            },
+        ];
+        let with_strip = to_svg(&fig, 600, 400).unwrap();
+        assert!(!plain.contains("residual") && with_strip.contains("residual"));
+        // One bottom-axis title either way: it moves under the strip.
+        assert_eq!(with_strip.matches("wavenumber / cm⁻¹").count(), 1);
+        assert_eq!(
+            with_strip.matches("<circle").count(),
+            plain.matches("<circle").count() + 2,
+            "a finite handle is a white ring under a dot; the NaN one is skipped"
+        );
     }
 }

@@ -96,42 +96,111 @@ pub fn smooth_savgol(y: &[f64], window: usize, order: usize) -> Result<Vec<f64>,
         .map_err(|e| JsError::new(&e.to_string()))
 }
 
-/// Starting bands for (x, y) (`bands::guess`); `n` = 0 lets the core choose.
+/// Baseline under (x, y) by one of the core's methods
+/// (`spectrum::preprocess::baseline`); `method` is a `BaselineMethod`.
 #[wasm_bindgen]
-pub fn guess_bands(x: &[f64], y: &[f64], n: usize) -> Result<JsValue, JsError> {
-    to_js(&crate::bands::guess(x, y, (n > 0).then_some(n)))
+pub fn baseline(x: &[f64], y: &[f64], method: JsValue) -> Result<Vec<f64>, JsError> {
+    let method: crate::spectrum::preprocess::BaselineMethod =
+        from_js(method, "the baseline method")?;
+    crate::spectrum::preprocess::baseline(x, y, &method).map_err(|e| JsError::new(&e.to_string()))
 }
 
-/// What the page needs after a band fit: the fit and its curves on x.
+/// What the page sends for a band fit: the spectrum's facts besides (x, y),
+/// the same options as `ddlens deconvolve`, and optionally the user's edited
+/// bands to start from (then the band count is not chosen).
+#[derive(serde::Deserialize)]
+struct BandRequest {
+    #[serde(default)]
+    quantity: Option<crate::spectrum::Quantity>,
+    #[serde(default)]
+    saturated: Vec<[f64; 2]>,
+    options: crate::pipeline::AnalysisOptions,
+    #[serde(default)]
+    model: Option<crate::bands::BandModel>,
+}
+
+/// Curves of a band model on x.
 #[derive(Serialize)]
-struct FitView {
-    fit: crate::bands::BandFit,
+struct Curves {
     total: Vec<f64>,
     components: Vec<Vec<f64>>,
     baseline: Vec<f64>,
 }
 
-/// Fits a band model (`bands::fit`, default options) and evaluates it on x.
+/// What the page needs after a band fit: the band table (with the BIC per
+/// band count when the count was chosen), its curves and the residuals on x.
+#[derive(Serialize)]
+struct FitView {
+    fit: crate::bands::BandFit,
+    bic_per_band_count: Option<Vec<(usize, f64)>>,
+    reduced_chi2_per_band_count: Option<Vec<(usize, Option<f64>)>>,
+    #[serde(flatten)]
+    curves: Curves,
+    residual: Vec<f64>,
+}
+
+/// The band fit of `ddlens deconvolve` (`pipeline::deconvolve`, or
+/// `pipeline::refit` from the given model): same points, weights and options.
 /// `progress` is called with the iteration number; returning false cancels.
 #[wasm_bindgen]
-pub fn fit_bands(
-    x: &[f64],
-    y: &[f64],
-    model: JsValue,
+pub fn deconvolve_bands(
+    x: Vec<f64>,
+    y: Vec<f64>,
+    request: JsValue,
     progress: &js_sys::Function,
 ) -> Result<JsValue, JsError> {
-    let model: crate::bands::BandModel = from_js(model, "the band model")?;
+    let req: BandRequest = from_js(request, "the band fit request")?;
+    let spectrum = crate::spectrum::Spectrum {
+        name: String::new(),
+        wavenumber: x,
+        values: y,
+        quantity: req
+            .quantity
+            .unwrap_or(crate::spectrum::Quantity::Absorbance),
+        x_unit_read: crate::spectrum::XUnit::Wavenumber,
+        saturated: req.saturated,
+        metadata: Default::default(),
+        warnings: Vec::new(),
+    };
     let mut report = |p: crate::bands::Progress| {
         progress
             .call1(&JsValue::NULL, &JsValue::from_f64(p.iteration as f64))
             .map(|v| v.as_bool() != Some(false))
             .unwrap_or(true)
     };
-    let fit = crate::bands::fit(x, y, None, &model, &Default::default(), &mut report)
-        .map_err(|e| JsError::new(&e.to_string()))?;
-    let (total, components, baseline) = crate::bands::evaluate(x, &fit);
+    let d = match &req.model {
+        Some(model) => crate::pipeline::refit(&spectrum, model, &req.options, &mut report),
+        None => crate::pipeline::deconvolve(&spectrum, &req.options, &mut report),
+    }
+    .map_err(|e| JsError::new(&e.to_string()))?;
+    let (total, components, baseline) = crate::bands::evaluate(&spectrum.wavenumber, &d.fit);
+    let residual = spectrum
+        .values
+        .iter()
+        .zip(&total)
+        .map(|(a, b)| a - b)
+        .collect();
     to_js(&FitView {
-        fit,
+        fit: d.fit,
+        bic_per_band_count: d.bic_per_band_count,
+        reduced_chi2_per_band_count: d.reduced_chi2_per_band_count,
+        curves: Curves {
+            total,
+            components,
+            baseline,
+        },
+        residual,
+    })
+}
+
+/// Bands at their given values (`BandSpec` list) plus a fitted baseline
+/// (`BaselineResult` or null) on x, for redrawing bands while they are edited.
+#[wasm_bindgen]
+pub fn evaluate_bands(x: &[f64], bands: JsValue, baseline: JsValue) -> Result<JsValue, JsError> {
+    let bands: Vec<crate::bands::BandSpec> = from_js(bands, "the bands")?;
+    let baseline: Option<crate::bands::BaselineResult> = from_js(baseline, "the baseline")?;
+    let (total, components, baseline) = crate::bands::evaluate_bands(x, &bands, baseline.as_ref());
+    to_js(&Curves {
         total,
         components,
         baseline,

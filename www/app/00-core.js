@@ -8,6 +8,9 @@ const PALETTE = ['#0072b2', '#d55e00', '#009e73', '#cc79a7', '#e69f00', '#56b4e9
 const EV_PER_CM = 1 / 8065.544; // CODATA 2018 hc/e in cm⁻¹ per eV (rounded)
 const state = {
   samples: [], frame: null, nextColour: 0, nextId: 1, lastImport: null, lastDrawMs: 0,
+  // Transient view state (not in the undo history): the baseline preview,
+  // a band being dragged, per-move drag redraw times, the band-count comparison.
+  baselinePreview: null, drag: null, dragMs: [], bic: null,
   view: { x: null, y: null, nmBottom: false, yMode: 'a' },
 };
 let worker = null;

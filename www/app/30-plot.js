@@ -10,23 +10,32 @@ function shownValues(s) {
 }
 
 function figure() {
-  const lines = [], shaded = [];
+  const lines = [], shaded = [], residuals = [];
+  let handles = [];
+  const plain = state.view.yMode === 'a';
+  const target = Number($('clean-target').value);
   for (const s of state.samples) {
     if (!s.visible) continue;
     const y = shownValues(s);
     if (!y) continue;
-    if (s.processing && state.view.yMode === 'a') lines.push({ x: s.raw.wavenumber, y: s.raw.values, colour: '#858585', width: 1 });
+    if (s.processing && plain) lines.push({ x: s.raw.wavenumber, y: s.raw.values, colour: '#858585', width: 1 });
     lines.push({ x: s.wavenumber, y, colour: s.colour, width: 1.5 });
-    if (s.fit && state.view.yMode === 'a') {
-      s.fit.components.forEach((c, k) => lines.push({ x: s.fit.x, y: c, colour: PALETTE[(k + 1) % PALETTE.length], fill: true }));
-      lines.push({ x: s.fit.x, y: s.fit.total, colour: '#000000', width: 1.5, dashed: true });
+    const bp = state.baselinePreview;
+    if (bp && bp.id === s.id && plain) lines.push({ x: bp.x, y: bp.y, colour: '#555555', width: 2, dashed: true });
+    const drag = state.drag && state.drag.id === s.id ? state.drag : null;
+    const c = drag ? drag.curves : s.curves;
+    if (c && plain) {
+      c.components.forEach((v, k) => lines.push({ x: c.x, y: v, colour: PALETTE[(k + 1) % PALETTE.length], fill: true }));
+      lines.push({ x: c.x, y: c.total, colour: '#000000', width: 1.5, dashed: true });
+      if (c.residual) residuals.push({ x: c.x, y: c.residual, colour: s.colour, width: 1 });
     }
+    if (s.model && s.id === target && plain) handles = bandHandles(drag ? drag.model : s.model);
     shaded.push(...s.saturated);
   }
   const v = state.view;
   const markers = state.lf && state.samples.some((x) => x.id === state.lf.sampleId && x.visible) ? predictions() : [];
   return {
-    lines, shaded, markers,
+    lines, shaded, markers, handles, residuals,
     x_range: v.x, y_range: v.y, nm_bottom: v.nmBottom,
     y_label: { a: 'absorbance', eps: 'ε / M⁻¹ cm⁻¹', logeps: 'log(ε / M⁻¹ cm⁻¹)' }[v.yMode],
   };
@@ -68,6 +77,38 @@ function toData(event) {
   const xb = f.x_range[0] + (px - l) / (rr - l) * (f.x_range[1] - f.x_range[0]);
   const y = f.y_range[1] - (py - t) / (b - t) * (f.y_range[1] - f.y_range[0]);
   return { inside: px >= l && px <= rr && py >= t && py <= b, cm: f.nm_bottom ? 1e7 / xb : xb, xb, y, px, py };
+}
+/** Backend pixel of a point (x in cm⁻¹) under the last frame. */
+function toPixel(cm, y) {
+  const f = state.frame;
+  const [l, t, r, b] = f.area;
+  const xb = f.nm_bottom ? 1e7 / cm : cm;
+  return [l + (xb - f.x_range[0]) / (f.x_range[1] - f.x_range[0]) * (r - l), t + (f.y_range[1] - y) / (f.y_range[1] - f.y_range[0]) * (b - t)];
+}
+/** The band handle (band index, 'peak' or 'width') within reach of a pointer position, or null. */
+function handleAt(p) {
+  const s = find(Number($('clean-target').value));
+  if (!s || !s.model || !s.visible || state.view.yMode !== 'a') return null;
+  const reach = 9 * (window.devicePixelRatio || 1);
+  let best = null;
+  bandHandles(s.model).forEach((h, k) => {
+    const [hx, hy] = toPixel(h.x, Math.min(Math.max(h.y, state.frame.y_range[0]), state.frame.y_range[1]));
+    const d = Math.hypot(hx - p.px, hy - p.py);
+    if (d <= reach && (!best || d < best.d)) best = { d, band: k >> 1, kind: k % 2 ? 'width' : 'peak', sample: s };
+  });
+  return best;
+}
+/** Moves the dragged band to the pointer and redraws (the edit is stored on release). */
+function dragBand(p) {
+  const d = state.drag;
+  const t0 = performance.now();
+  const b = d.model.bands[d.band];
+  if (d.kind === 'peak') Object.assign(b, { centre: p.cm, height: p.y });
+  else b.fwhm = Math.max(2 * Math.abs(p.cm - b.centre), 1);
+  d.curves = modelCurves(d.sample, d.model);
+  d.moved = true;
+  draw();
+  state.dragMs.push(performance.now() - t0);
 }
 const currentX = () => {
   const f = state.frame;
@@ -116,11 +157,23 @@ function wirePlot() {
   canvas.addEventListener('pointerdown', (e) => {
     const p = toData(e);
     if (!p || !p.inside || e.button !== 0) return;
+    if ($('add-band-mode').getAttribute('aria-pressed') === 'true') {
+      $('add-band-mode').setAttribute('aria-pressed', 'false');
+      addBand(p.cm, p.y);
+      return;
+    }
     canvas.setPointerCapture(e.pointerId);
+    const h = handleAt(p);
+    if (h) {
+      const m = h.sample.model;
+      state.drag = { id: h.sample.id, sample: h.sample, band: h.band, kind: h.kind, model: { ...m, bands: m.bands.map((b) => ({ ...b })), edited: true }, curves: h.sample.curves };
+      return;
+    }
     drag = { start: p, pan: e.shiftKey, x0: currentX(), clientX: e.clientX, clientY: e.clientY, y0: state.frame.y_range };
   });
   canvas.addEventListener('pointermove', (e) => {
     readout(e);
+    if (state.drag) { const p = toData(e); if (p) dragBand(p); return; }
     if (!drag) return;
     if (drag.pan) {
       const f = state.frame;
@@ -140,6 +193,12 @@ function wirePlot() {
       });
       box.hidden = false;
     }
+  });
+  canvas.addEventListener('pointerup', () => {
+    const d = state.drag;
+    if (!d) return;
+    state.drag = null;
+    if (d.moved) edit(() => Object.assign(find(d.id), { model: d.model, curves: d.curves }));
   });
   canvas.addEventListener('pointerup', (e) => {
     if (!drag) return;

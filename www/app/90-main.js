@@ -15,6 +15,13 @@ function wire() {
   $('busy-cancel').addEventListener('click', () => cancelCurrent && cancelCurrent());
   $('clean-target').addEventListener('change', () => selectSample(Number($('clean-target').value)));
   $('fit-bands').addEventListener('click', fitBands);
+  $('refit-bands').addEventListener('click', refitBands);
+  $('bic-helper').addEventListener('click', compareCounts);
+  $('add-band-mode').addEventListener('click', (e) => e.currentTarget.setAttribute('aria-pressed', String(e.currentTarget.getAttribute('aria-pressed') !== 'true')));
+  $('add-band').addEventListener('click', () => addBand(parseFloat($('add-centre').value), parseFloat($('add-height').value)));
+  for (const id of ['baseline-method', 'baseline-order', 'baseline-regions', 'baseline-lambda', 'baseline-p', 'crop-lo', 'crop-hi', 'smooth-on', 'smooth-window', 'smooth-order']) {
+    $(id).addEventListener('input', previewBaseline);
+  }
   $('bands-csv').addEventListener('click', exportBandsCsv);
   $('bands-copy').addEventListener('click', copyBands);
   $('clean-apply').addEventListener('click', () => applyCleaning());
@@ -88,4 +95,4 @@ const ready = main().catch((e) => {
 });
 
 /** What the tests and the console may reach: the page's state and a few actions. */
-const api = { ready, state, draw, undo, redo, openFiles, analyzeSample, get worker() { return worker; } };
+const api = { ready, state, draw, figure, undo, redo, openFiles, analyzeSample, get worker() { return worker; } };
