@@ -60,6 +60,27 @@ test('a reload restores the workspace; Start fresh clears it', async () => {
   await context.close();
 });
 
+test('a cleaned sample keeps its steps through a reload and can still go back to the file data', async () => {
+  const { context, page, log } = await openPage(browser, site.url);
+  await page.locator('#cleaning summary').click();
+  await page.locator('#crop-lo').fill('14000');
+  await page.locator('#crop-hi').fill('26000');
+  await page.locator('#clean-apply').click();
+  const cropped = await page.evaluate(() => window.ddlens.state.samples[0].wavenumber.length);
+  assert.ok(cropped < 601, `${cropped} points after the crop`);
+  await page.waitForTimeout(600); // the autosave is debounced by 300 ms
+  await page.reload();
+  await page.waitForFunction(() => window.ddlens.state.samples.length === 1 && window.ddlens.state.samples[0].processing);
+  const restored = await page.evaluate(() => { const s = window.ddlens.state.samples[0]; return { n: s.wavenumber.length, raw: s.raw.wavenumber.length, crop: s.processing.crop }; });
+  assert.deepEqual(restored, { n: cropped, raw: 601, crop: [14000, 26000] });
+  await page.locator('#cleaning summary').click();
+  await page.locator('#clean-clear').click();
+  assert.equal(await page.evaluate(() => window.ddlens.state.samples[0].wavenumber.length), 601);
+  assert.deepEqual(log.errors, []);
+  assert.deepEqual(log.outside, []);
+  await context.close();
+});
+
 test('a project file saved by a newer version is refused with a plain message', async () => {
   const { context, page } = await openPage(browser, site.url);
   const newer = JSON.stringify({ ddlens_project: 99, samples: [] });

@@ -27,6 +27,9 @@ function projectDoc() {
     samples: state.samples.map((s) => ({
       ...Object.fromEntries(keep.map((k) => [k, s[k]])), wavenumber: Array.from(s.wavenumber), values: Array.from(s.values),
       ligand_field: s.lf ? { controls: s.lf.controls } : null,
+      // A cleaned sample also keeps the file's data and its steps, so the
+      // cleaning can still be changed or undone after a reload.
+      ...(s.processing ? { processing: s.processing, raw: { wavenumber: Array.from(s.raw.wavenumber), values: Array.from(s.raw.values) } } : {}),
     })),
     selected,
     bands: { count: $('band-count').value, shape: $('band-shape').value },
@@ -44,9 +47,11 @@ async function loadProject(doc) {
   if (!Array.isArray(doc.samples) || doc.samples.some((s) => !ok(s.wavenumber) || !ok(s.values) || s.wavenumber.length !== s.values.length)) {
     throw new Error('the project is damaged: a sample has missing or unequal data');
   }
+  const rawOf = (s) => (s.processing && s.raw && ok(s.raw.wavenumber) && ok(s.raw.values) && s.raw.wavenumber.length === s.raw.values.length
+    ? { raw: s.raw, processing: s.processing } : { raw: { wavenumber: s.wavenumber, values: s.values }, processing: null });
   edit(() => {
     state.samples = doc.samples.map((s) => ({
-      ...s, id: state.nextId++, raw: { wavenumber: s.wavenumber, values: s.values }, processing: null, fit: null, lf: null, lfChoices: s.lfChoices || [],
+      ...s, id: state.nextId++, ...rawOf(s), fit: null, lf: null, lfChoices: s.lfChoices || [],
       saturated: s.saturated || [], metadata: s.metadata || {}, warnings: [], colour: s.colour || PALETTE[state.nextColour++ % PALETTE.length], visible: s.visible !== false,
     }));
   });
