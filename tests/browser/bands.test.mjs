@@ -93,8 +93,10 @@ test('bands are added, dragged, locked and tied, refitted, and every edit undoes
     const [l, t, r, bt] = f.area;
     return [(l + (cx - f.x_range[0]) / (f.x_range[1] - f.x_range[0]) * (r - l)) / dpr, (t + (f.y_range[1] - cy) / (f.y_range[1] - f.y_range[0]) * (bt - t)) / dpr];
   }, [band, kind]);
-  const box = await canvas.boundingBox();
   const drag = async (band, kind, dx) => {
+    // Mouse positions are in the viewport: bring the plot into view first.
+    await canvas.scrollIntoViewIfNeeded();
+    const box = await canvas.boundingBox();
     const [hx, hy] = await handle(band, kind);
     await page.mouse.move(box.x + hx, box.y + hy);
     await page.mouse.down();
