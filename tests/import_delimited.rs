@@ -266,3 +266,17 @@ fn a_lone_row_of_numbers_outside_the_table_is_reported_not_dropped() {
     assert_eq!(lone.len(), 1, "{:?}", r.warnings);
     assert!(lone[0].message.contains("not read"), "{}", lone[0].message);
 }
+
+#[test]
+fn a_comment_line_names_the_columns_only_when_it_has_one_cell_per_column() {
+    // "# …" lines are comments in text data (common practice); a free-text
+    // comment must not become a column header or the sample's name.
+    let text = "# synthetic: five bands, seed 7\n9000 0.05\n9010 0.06\n9020 0.07\n";
+    let r = import(text.as_bytes(), "five.txt", &ImportOptions::default()).unwrap();
+    assert_eq!(r.spectra[0].name, "five");
+    // A commented header with one name per column still gives the units.
+    let text = "# nm A\n500 0.1\n510 0.2\n520 0.3\n";
+    let r = import(text.as_bytes(), "c.txt", &ImportOptions::default()).unwrap();
+    assert_eq!(r.spectra[0].x_unit_read, XUnit::Nanometre);
+    assert!(close(r.spectra[0].wavenumber[0], 1e7 / 520.0, 1e-12));
+}

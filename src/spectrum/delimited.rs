@@ -389,9 +389,24 @@ impl Headers {
         if !before.is_empty() {
             headers.fallback = Some(before.join(" "));
         }
+        // A comment line ("# …", common practice in text data) names the
+        // columns only when, without its marker, it has one cell per column.
+        let width = match kinds.get(start) {
+            Some(Kind::Data(c)) => c.len(),
+            _ => 0,
+        };
+        let comment = |i: usize| {
+            lines
+                .get(i)
+                .is_some_and(|(_, l)| l.trim_start().starts_with('#'))
+        };
         if start >= 1 && other(start - 1) {
-            let h = cells(start - 1);
-            if h.len() >= 2 {
+            let mut h = cells(start - 1);
+            if comment(start - 1) {
+                h[0] = h[0].trim_start_matches('#').trim().to_string();
+                h.retain(|c| !c.is_empty());
+            }
+            if h.len() >= 2 && (!comment(start - 1) || h.len() == width) {
                 headers.columns = Some(h);
                 headers.used_lines.push(start - 1);
                 if start >= 2 && other(start - 2) {
