@@ -14,7 +14,10 @@ use serde::{Deserialize, Serialize};
 /// One curve on the figure (x in cm⁻¹).
 #[derive(Debug, Clone, Default, Serialize, Deserialize)]
 pub struct Line {
+    /// Empty when the curve travels packed (see the wasm facade's `draw_spectrum`).
+    #[serde(default)]
     pub x: Vec<f64>,
+    #[serde(default)]
     pub y: Vec<f64>,
     /// `#rrggbb`.
     pub colour: String,

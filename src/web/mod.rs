@@ -51,17 +51,49 @@ fn from_js<T: serde::de::DeserializeOwned>(value: JsValue, what: &str) -> Result
 
 /// Draws a spectrum figure on a canvas whose pixel size is already CSS size × `scale`;
 /// returns the plot frame (pixel ↔ data mapping) for mouse read-outs.
+///
+/// The curves travel apart from the description, packed in `data` (each line,
+/// then each residual line: its x values, then its y values) with one length
+/// per curve in `lengths`: a typed array is copied into wasm in one step,
+/// where a JS array would be converted number by number.
 #[wasm_bindgen]
 pub fn draw_spectrum(
     canvas: HtmlCanvasElement,
     figure: JsValue,
+    data: &[f64],
+    lengths: &[u32],
     scale: f64,
 ) -> Result<JsValue, JsError> {
-    let fig: SpectrumFigure = from_js(figure, "the figure description")?;
+    let mut fig: SpectrumFigure = from_js(figure, "the figure description")?;
+    unpack_curves(&mut fig, data, lengths)?;
     let backend = CanvasBackend::with_canvas_object(canvas)
         .ok_or_else(|| JsError::new("the canvas has no 2D context"))?;
     let frame = spectrum_plot::draw(&backend.into_drawing_area(), &fig, scale.clamp(0.5, 8.0))?;
     to_js(&frame)
+}
+
+/// Fills the lines' x and y from the packed curve data of [`draw_spectrum`].
+fn unpack_curves(fig: &mut SpectrumFigure, data: &[f64], lengths: &[u32]) -> Result<(), JsError> {
+    let curves = fig.lines.iter_mut().chain(fig.residuals.iter_mut());
+    let mut rest = data;
+    let mut count = 0;
+    for (line, &n) in curves.zip(lengths) {
+        let n = n as usize;
+        if rest.len() < 2 * n {
+            break;
+        }
+        let (xy, tail) = rest.split_at(2 * n);
+        line.x = xy[..n].to_vec();
+        line.y = xy[n..].to_vec();
+        rest = tail;
+        count += 1;
+    }
+    if count != fig.lines.len() + fig.residuals.len() || !rest.is_empty() {
+        return Err(JsError::new(
+            "the figure's packed curves do not match its lines",
+        ));
+    }
+    Ok(())
 }
 
 /// The same figure as an SVG document.
@@ -195,14 +227,15 @@ pub fn deconvolve_bands(
 
 /// Bands at their given values (`BandSpec` list) plus a fitted baseline
 /// (`BaselineResult` or null) on x, for redrawing bands while they are edited.
+/// Returns one Float64Array (copied out in one step): the total on x, then
+/// each band's component on x, in the order of `bands`.
 #[wasm_bindgen]
-pub fn evaluate_bands(x: &[f64], bands: JsValue, baseline: JsValue) -> Result<JsValue, JsError> {
+pub fn evaluate_bands(x: &[f64], bands: JsValue, baseline: JsValue) -> Result<Vec<f64>, JsError> {
     let bands: Vec<crate::bands::BandSpec> = from_js(bands, "the bands")?;
     let baseline: Option<crate::bands::BaselineResult> = from_js(baseline, "the baseline")?;
-    let (total, components, baseline) = crate::bands::evaluate_bands(x, &bands, baseline.as_ref());
-    to_js(&Curves {
-        total,
-        components,
-        baseline,
-    })
+    let (total, components, _) = crate::bands::evaluate_bands(x, &bands, baseline.as_ref());
+    Ok(total
+        .into_iter()
+        .chain(components.into_iter().flatten())
+        .collect())
 }

@@ -41,6 +41,18 @@ function figure() {
   };
 }
 
+/** Draws a figure on a canvas: the curves go to wasm packed in one
+ *  Float64Array (one copy), the rest as a small description. */
+function drawFigure(canvas, fig, scale) {
+  const curves = [...fig.lines, ...fig.residuals];
+  const lengths = Uint32Array.from(curves, (l) => l.x.length);
+  const data = new Float64Array(curves.reduce((n, l) => n + 2 * l.x.length, 0));
+  let at = 0;
+  for (const l of curves) { data.set(l.x, at); data.set(l.y, at + l.x.length); at += 2 * l.x.length; }
+  const bare = ({ x, y, ...rest }) => rest; // eslint-disable-line no-unused-vars
+  return wasm_bindgen.draw_spectrum(canvas, { ...fig, lines: fig.lines.map(bare), residuals: fig.residuals.map(bare) }, data, lengths, scale);
+}
+
 let drawQueued = false;
 function draw() {
   const canvas = $('spectrum-canvas');
@@ -51,7 +63,7 @@ function draw() {
   if (canvas.height !== h) canvas.height = h;
   const t0 = performance.now();
   try {
-    state.frame = wasm_bindgen.draw_spectrum(canvas, figure(), dpr);
+    state.frame = drawFigure(canvas, figure(), dpr);
   } catch (e) {
     say(`The plot could not be drawn: ${e.message || e}`);
   }
@@ -251,7 +263,7 @@ function exportSvg() {
 function exportPng() {
   const canvas = document.createElement('canvas');
   canvas.width = 3600; canvas.height = 1800;
-  wasm_bindgen.draw_spectrum(canvas, figure(), 3);
+  drawFigure(canvas, figure(), 3);
   canvas.toBlob((blob) => download(blob, `${baseName()}-spectrum-300dpi.png`), 'image/png');
 }
 

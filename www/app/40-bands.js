@@ -114,8 +114,12 @@ function renderBic() {
 // ---------- editing bands ----------
 /** Curves of a model on the sample's x (bands at their set values, the last fit's baseline). */
 function modelCurves(s, model) {
-  const c = wasm_bindgen.evaluate_bands(Float64Array.from(s.wavenumber), model.bands, s.fit ? s.fit.fit.baseline : null);
-  return { x: s.wavenumber, total: c.total, components: c.components, residual: s.fit ? s.values.map((v, i) => v - c.total[i]) : null };
+  // One Float64Array: the total, then each band's component, each on x.
+  const packed = wasm_bindgen.evaluate_bands(Float64Array.from(s.wavenumber), model.bands, s.fit ? s.fit.fit.baseline : null);
+  const n = s.wavenumber.length;
+  const total = packed.subarray(0, n);
+  const components = model.bands.map((_, k) => packed.subarray((k + 1) * n, (k + 2) * n));
+  return { x: s.wavenumber, total, components, residual: s.fit ? s.values.map((v, i) => v - total[i]) : null };
 }
 
 /** Applies `change(model)` to a copy of the selected sample's model, as one undoable edit. */

@@ -95,4 +95,4 @@ const ready = main().catch((e) => {
 });
 
 /** What the tests and the console may reach: the page's state and a few actions. */
-const api = { ready, state, draw, figure, undo, redo, openFiles, analyzeSample, get worker() { return worker; } };
+const api = { ready, state, draw, figure, modelCurves, undo, redo, openFiles, analyzeSample, get worker() { return worker; } };
