@@ -23,7 +23,7 @@
 //!   a + b·ν̃ⁿ with n free) baseline are both tried and the lower BIC wins
 //!   (common practice: glasses, powders and turbid solutions scatter; left as
 //!   a straight line, the curvature is taken up by small spurious bands at the
-//!   high-energy end).
+//!   high-energy end);
 //! - the user's per-band choices (a forced state or "not d–d", given as the
 //!   `bands` of the ligand-field request) are matched by energy to the bands
 //!   the deconvolution finds: each choice goes to the nearest band within
@@ -255,7 +255,7 @@ pub fn deconvolve(
         match deconvolve_with(&x, &y, &w, opts, baseline, &fit_opts, progress) {
             Ok(d) => {
                 let bic = d.fit.statistics.bic.unwrap_or(f64::INFINITY);
-                tried.push(format!("{} {bic:.1}", baseline_name(baseline)));
+                tried.push(format!("{baseline} {bic:.1}"));
                 let better = best
                     .as_ref()
                     .is_none_or(|b| bic < b.fit.statistics.bic.unwrap_or(f64::INFINITY));
@@ -274,22 +274,11 @@ pub fn deconvolve(
     if candidates.len() > 1 {
         best.fit.warnings.push(format!(
             "baseline chosen by BIC: {} (BIC {})",
-            baseline_name(best.fit.baseline.model),
+            best.fit.baseline.model,
             tried.join(", ")
         ));
     }
     Ok(best)
-}
-
-fn baseline_name(b: BaselineModel) -> &'static str {
-    match b {
-        BaselineModel::None => "none",
-        BaselineModel::Constant => "constant",
-        BaselineModel::Linear => "linear",
-        BaselineModel::Polynomial(_) => "polynomial",
-        BaselineModel::Scattering => "scattering",
-        BaselineModel::ChargeTransferTail => "charge-transfer tail",
-    }
 }
 
 /// The band fit with one baseline model.

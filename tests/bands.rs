@@ -279,3 +279,19 @@ fn edited_bands_are_evaluated_with_the_fitted_baseline() {
         .iter()
         .all(|t| *t == 0.0));
 }
+
+#[test]
+fn baseline_names_read_back() {
+    // The name shown in warnings and reports is the spelling `--baseline` accepts.
+    use ddlens::bands::BaselineModel as B;
+    for m in [
+        B::None,
+        B::Constant,
+        B::Linear,
+        B::Polynomial(3),
+        B::Scattering,
+        B::ChargeTransferTail,
+    ] {
+        assert_eq!(m.to_string().parse::<B>(), Ok(m), "{m}");
+    }
+}

@@ -76,6 +76,20 @@ impl std::str::FromStr for BaselineModel {
     }
 }
 
+/// The spelling [`FromStr`](std::str::FromStr) reads back ("linear", "polynomial:2", "ct-tail").
+impl fmt::Display for BaselineModel {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            BaselineModel::None => f.write_str("none"),
+            BaselineModel::Constant => f.write_str("constant"),
+            BaselineModel::Linear => f.write_str("linear"),
+            BaselineModel::Polynomial(order) => write!(f, "polynomial:{order}"),
+            BaselineModel::Scattering => f.write_str("scattering"),
+            BaselineModel::ChargeTransferTail => f.write_str("ct-tail"),
+        }
+    }
+}
+
 /// A linear tie between parameters of two bands (indices into `bands`).
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 #[serde(rename_all = "kebab-case", tag = "kind")]

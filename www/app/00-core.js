@@ -81,6 +81,8 @@ function say(text, kind = 'warn') {
   $('messages').prepend(p);
   while ($('messages').children.length > 5) $('messages').lastChild.remove();
 }
+/** Reports a worker job on a sample that failed or was cancelled (`what`: "fit", "analysis"…). */
+const jobFailed = (s, what, e) => say(e.cancelled ? `${s.name}: ${what} cancelled` : `${s.name}: ${e.message || e}`, e.cancelled ? 'info' : 'warn');
 
 // ---------- undo history ----------
 // Each entry is a snapshot of the sample list (the data arrays are never

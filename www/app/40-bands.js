@@ -52,7 +52,7 @@ async function fitBands() {
     const result = await runFit(s, `Fitting bands to ${s.name}…`, bandOptions(Number.isFinite(n) && n > 0 ? n : 0));
     storeFit(s.id, result, s.model);
   } catch (e) {
-    say(e.cancelled ? `${s.name}: fit cancelled` : `${s.name}: ${e.message || e}`, e.cancelled ? 'info' : 'warn');
+    jobFailed(s, 'fit', e);
   }
 }
 
@@ -67,7 +67,7 @@ async function refitBands() {
     const result = await runFit(s, `Refitting ${s.name}…`, bandOptions(bands.length), { bands, ties, baseline });
     storeFit(s.id, result, s.model);
   } catch (e) {
-    say(e.cancelled ? `${s.name}: refit cancelled` : `${s.name}: ${e.message || e}`, e.cancelled ? 'info' : 'warn');
+    jobFailed(s, 'refit', e);
   }
 }
 
@@ -81,7 +81,7 @@ async function compareCounts() {
     state.bic = { id: s.id, best: r.fit.bands.length, rows: (r.bic_per_band_count || []).map(([n, bic]) => ({ n, bic, chi: chi.get(n) })) };
     renderBic();
   } catch (e) {
-    say(e.cancelled ? `${s.name}: comparison cancelled` : `${s.name}: ${e.message || e}`, e.cancelled ? 'info' : 'warn');
+    jobFailed(s, 'comparison', e);
   }
 }
 

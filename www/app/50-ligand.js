@@ -65,7 +65,6 @@ async function analyse(s, controls, choices) {
   return { sampleId: s.id, analysis, controls, n: ion ? Number(ion.dataset.n) : 3, geometry: controls.geometry, whatIf: null };
 }
 
-const failed = (s, e) => say(e.cancelled ? `${s.name}: analysis cancelled` : `${s.name}: ${e.message || e}`, e.cancelled ? 'info' : 'warn');
 
 async function analyzeSample() {
   const s = selectedSample();
@@ -74,14 +73,14 @@ async function analyzeSample() {
     const rec = await analyse(s, lfControls(), s.lfChoices || []);
     if (!rec.analysis.fit) say(`${s.name}: no ligand-field fit — ${rec.analysis.fit_error}`);
     edit(() => { find(s.id).lf = rec; });
-  } catch (e) { failed(s, e); }
+  } catch (e) { jobFailed(s, 'analysis', e); }
 }
 
 async function analyzeAll() {
   const controls = lfControls();
   const done = [];
   for (const s of [...state.samples]) {
-    try { done.push([s.id, await analyse(s, controls, s.lfChoices || [])]); } catch (e) { failed(s, e); if (e.cancelled) break; }
+    try { done.push([s.id, await analyse(s, controls, s.lfChoices || [])]); } catch (e) { jobFailed(s, 'analysis', e); if (e.cancelled) break; }
   }
   const noFit = done.filter(([, r]) => !r.analysis.fit).map(([id]) => find(id).name);
   if (noFit.length) say(`No ligand-field fit for ${noFit.join(', ')}: see each sample's panel.`);
@@ -100,7 +99,7 @@ async function choose(energy, value) {
     const rec = await analyse(s, s.lf.controls, choices);
     if (!rec.analysis.fit) { say(`${s.name}: no fit with that choice — ${rec.analysis.fit_error}`); renderLf(); return; }
     edit(() => { const t = find(s.id); t.lfChoices = choices; t.lf = rec; });
-  } catch (e) { failed(s, e); renderLf(); }
+  } catch (e) { jobFailed(s, 'analysis', e); renderLf(); }
 }
 
 function row(tbody, cells, header = false) {

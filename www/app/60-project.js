@@ -64,7 +64,7 @@ async function loadProject(doc) {
   for (const [i, s] of state.samples.entries()) {
     const lf = lfOf(i);
     if (!lf) continue;
-    try { s.lf = await analyse(s, lf.controls, s.lfChoices); } catch (e) { failed(s, e); }
+    try { s.lf = await analyse(s, lf.controls, s.lfChoices); } catch (e) { jobFailed(s, 'analysis', e); }
   }
   refresh();
   if (state.samples[doc.selected]) selectSample(state.samples[doc.selected].id);
