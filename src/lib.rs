@@ -13,6 +13,7 @@ pub mod lf_fit;
 pub mod ligand_field;
 pub mod pipeline;
 pub mod plot;
+pub mod preprocess;
 pub mod spectrum;
 
 #[cfg(target_arch = "wasm32")]

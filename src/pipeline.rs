@@ -32,7 +32,8 @@
 
 use crate::bands::{self, BandFit, BandModel, BaselineModel, FitOptions, Shape};
 use crate::lf_fit::{self, FitOutcome, FitRequest, LfFitError, ObservedBand};
-use crate::spectrum::{self, preprocess, ImportOptions, Quantity, Spectrum, Warning, XUnit};
+use crate::preprocess;
+use crate::spectrum::{self, ImportOptions, Quantity, Spectrum, Warning, XUnit};
 use serde::{Deserialize, Serialize};
 use std::fmt;
 

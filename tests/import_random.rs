@@ -2,7 +2,8 @@
 //! A small deterministic PRNG (xorshift64*) keeps failures reproducible; the cargo-fuzz
 //! targets in fuzz/ run the same idea for longer.
 
-use ddlens::spectrum::{import, preprocess, ImportOptions};
+use ddlens::preprocess;
+use ddlens::spectrum::{import, ImportOptions};
 
 struct Rng(u64);
 

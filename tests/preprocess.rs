@@ -1,7 +1,7 @@
 //! Preprocessing checks on synthetic data with known answers. Each expected value follows
 //! from a property of the method (named next to it), not from running the code.
 
-use ddlens::spectrum::preprocess::{
+use ddlens::preprocess::{
     baseline, crop, point_weights, resample_even, whittaker_smooth, BaselineMethod,
 };
 use ddlens::spectrum::{Quantity, Spectrum, XUnit};

@@ -11,7 +11,7 @@
 //!    with centres and widths fixed and a free constant offset.
 
 use super::{BandSpec, Shape};
-use crate::spectrum::preprocess::savgol;
+use crate::preprocess::savgol;
 use nalgebra::{DMatrix, DVector};
 
 /// Starting bands (Gaussian) for `n` bands, or as many as the data suggest.

@@ -8,7 +8,8 @@
 //!   polynomial order O and derivative D, in correlation ("dot") order.
 
 use super::{print_json, Args, CliError};
-use crate::spectrum::{self, preprocess, ImportOptions, Spectrum, Warning};
+use crate::preprocess;
+use crate::spectrum::{self, ImportOptions, Spectrum, Warning};
 use serde::Serialize;
 use std::collections::BTreeMap;
 

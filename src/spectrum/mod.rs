@@ -1,4 +1,4 @@
-//! Spectrum import, units and preprocessing.
+//! Spectrum import and units (preprocessing lives in [`crate::preprocess`]).
 //!
 //! `import` turns the bytes of a spectrum file into one or more [`Spectrum`]s on
 //! the internal axis: vacuum wavenumber in cm⁻¹, ascending. The work is split:
@@ -12,7 +12,6 @@
 //!   the y quantity (T, %T, log ε → A or ε);
 //! - [`assemble`] sorts, averages duplicate x, flags saturation;
 //! - [`project`] recognises the saved-analysis JSON envelope;
-//! - [`preprocess`] crops, resamples, weights, removes baselines and smooths.
 //!
 //! Readers produce [`RawSpectrum`]s in file units; `assemble` makes them
 //! [`Spectrum`]s. Nothing here panics on any input: every failure is an
@@ -23,7 +22,6 @@ mod assemble;
 pub mod delimited;
 mod error;
 pub mod jcamp;
-pub mod preprocess;
 pub mod project;
 pub mod saturation;
 pub mod text;

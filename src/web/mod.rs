@@ -121,20 +121,18 @@ pub fn import_spectrum(
     to_js(&report)
 }
 
-/// Savitzky–Golay smoothing (`spectrum::preprocess::savgol`, derivative 0).
+/// Savitzky–Golay smoothing (`preprocess::savgol`, derivative 0).
 #[wasm_bindgen]
 pub fn smooth_savgol(y: &[f64], window: usize, order: usize) -> Result<Vec<f64>, JsError> {
-    crate::spectrum::preprocess::savgol(y, window, order, 0)
-        .map_err(|e| JsError::new(&e.to_string()))
+    crate::preprocess::savgol(y, window, order, 0).map_err(|e| JsError::new(&e.to_string()))
 }
 
 /// Baseline under (x, y) by one of the core's methods
-/// (`spectrum::preprocess::baseline`); `method` is a `BaselineMethod`.
+/// (`preprocess::baseline`); `method` is a `BaselineMethod`.
 #[wasm_bindgen]
 pub fn baseline(x: &[f64], y: &[f64], method: JsValue) -> Result<Vec<f64>, JsError> {
-    let method: crate::spectrum::preprocess::BaselineMethod =
-        from_js(method, "the baseline method")?;
-    crate::spectrum::preprocess::baseline(x, y, &method).map_err(|e| JsError::new(&e.to_string()))
+    let method: crate::preprocess::BaselineMethod = from_js(method, "the baseline method")?;
+    crate::preprocess::baseline(x, y, &method).map_err(|e| JsError::new(&e.to_string()))
 }
 
 /// What the page sends for a band fit: the spectrum's facts besides (x, y),

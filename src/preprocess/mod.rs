@@ -12,7 +12,7 @@ mod baselines;
 mod savgol;
 mod whittaker;
 
-use super::Spectrum;
+use crate::spectrum::Spectrum;
 use serde::{Deserialize, Serialize};
 
 pub use savgol::{savgol, savgol_coeffs};
