@@ -2,10 +2,10 @@
 //! engine itself: the parameters must come back within their stated
 //! uncertainties (a self-consistency check of import → bands → fit).
 
+use ddlens::analysis::{analyze_file, AnalysisOptions, BandCount};
 use ddlens::bands::BaselineModel;
 use ddlens::lf_fit::{FitRequest, ObservedBand};
 use ddlens::ligand_field::{model, Geometry, Params};
-use ddlens::pipeline::{analyze_file, AnalysisOptions, BandCount};
 
 /// A CSV in nm (descending, 1 nm steps, as instruments write it) with Gaussian
 /// bands in wavenumber at the first `k` spin-allowed transitions, a sloping
@@ -146,7 +146,7 @@ fn the_demo_with_default_options_finds_its_two_bands_on_a_scattering_baseline() 
 
 /// The demo (fixtures/demo/make_demo.py: d³ octahedral, Dq 1650, B 690) with
 /// two bands, and the user's per-band choices handed in as the request's bands.
-fn demo(choices: Vec<ObservedBand>) -> ddlens::pipeline::Analysis {
+fn demo(choices: Vec<ObservedBand>) -> ddlens::analysis::Analysis {
     let opts = AnalysisOptions {
         bands: BandCount::Fixed(2),
         ligand_field: Some(FitRequest {
@@ -160,7 +160,7 @@ fn demo(choices: Vec<ObservedBand>) -> ddlens::pipeline::Analysis {
     analyze_file(csv, "demo-crx7.csv", &opts).unwrap()
 }
 
-fn states(a: &ddlens::pipeline::Analysis) -> Vec<String> {
+fn states(a: &ddlens::analysis::Analysis) -> Vec<String> {
     let fit = a.fit.as_ref().expect("a fit");
     fit.best
         .assignment
@@ -184,7 +184,7 @@ fn user_choices_reach_the_fit_matched_by_energy() {
     let forced = demo(vec![choice(high * 1.01, Some("4T1g(P)"), false)]);
     assert_eq!(states(&forced)[1], "4T1g(P)");
     assert_eq!(forced.observed[1].assign.as_deref(), Some("4T1g(P)"));
-    let d = |a: &ddlens::pipeline::Analysis| a.fit.as_ref().unwrap().best.derived.delta.value;
+    let d = |a: &ddlens::analysis::Analysis| a.fit.as_ref().unwrap().best.derived.delta.value;
     assert!(
         (d(&forced) - d(&auto)).abs() > 100.0,
         "forcing changed nothing"
@@ -210,8 +210,8 @@ fn user_choices_reach_the_fit_matched_by_energy() {
 /// same weighted points as `deconvolve` (fixtures/bands/README.md: five Gaussians).
 #[test]
 fn refit_keeps_locks_and_ties_and_matches_deconvolve_when_unchanged() {
+    use ddlens::analysis::{deconvolve, pick_spectrum, refit};
     use ddlens::bands::{BandModel, BaselineModel, Tie};
-    use ddlens::pipeline::{deconvolve, pick_spectrum, refit};
     let bytes = std::fs::read("fixtures/bands/five_gaussians_2000.txt").unwrap();
     let opts = AnalysisOptions {
         bands: BandCount::Fixed(5),
@@ -273,7 +273,7 @@ fn within<T: Send + 'static>(secs: u64, f: impl FnOnce() -> T + Send + 'static) 
 /// to keep the test short.)
 #[test]
 fn every_combination_of_forced_states_ends_with_a_fit_or_a_reason() {
-    use ddlens::pipeline::{assign, deconvolve, pick_spectrum};
+    use ddlens::analysis::{assign, deconvolve, pick_spectrum};
     let opts = AnalysisOptions {
         bands: BandCount::Fixed(2),
         ..AnalysisOptions::default()

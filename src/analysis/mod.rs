@@ -37,14 +37,14 @@ use crate::spectrum::{self, ImportOptions, Quantity, Spectrum, Warning, XUnit};
 use serde::{Deserialize, Serialize};
 use std::fmt;
 
-/// How many bands to fit.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
-#[serde(rename_all = "lowercase")]
-pub enum BandCount {
-    /// Chosen by BIC among 1…max.
-    Auto(usize),
-    Fixed(usize),
-}
+pub mod document;
+mod load;
+
+pub use document::{
+    BandCount, BandSetup, Choice, Display, Document, LigandFieldOptions, PageState, Project,
+    Results, Sample, SampleData, SeriesSort, Source, View, SCHEMA,
+};
+pub use load::DocumentError;
 
 /// Every choice of an analysis.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
