@@ -2,7 +2,7 @@
 //! the whole pipeline (the same function the browser calls).
 
 use super::{Args, CliError};
-use crate::analysis::{self, AnalysisOptions};
+use crate::analysis::{self, BandSetup, Document, Source};
 use crate::spectrum::XUnit;
 
 const HELP: &str = "\
@@ -36,11 +36,12 @@ pub fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
         print!("{HELP}");
         return Ok(());
     }
-    let mut opts = AnalysisOptions {
-        ligand_field: Some(super::fit_request_options(args)?),
-        ..AnalysisOptions::default()
+    let mut lf = super::fit_request_options(args)?;
+    let mut opts = BandSetup {
+        count: super::band_count_option(args)?,
+        ..BandSetup::default()
     };
-    opts.bands = super::band_count_option(args)?;
+    let mut source = Source::default();
     if let Some(s) = args.value("--shape")? {
         opts.shape = s.parse().map_err(CliError::Usage)?;
     }
@@ -61,10 +62,10 @@ pub fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
         if k < 1.0 || k.fract() != 0.0 {
             return Err(CliError::Usage("--spectrum counts from 1".into()));
         }
-        opts.spectrum = k as usize - 1;
+        source.spectrum = k as usize - 1;
     }
     if let Some(u) = args.value("--x-unit")? {
-        opts.import.x_unit = Some(match u.to_ascii_lowercase().as_str() {
+        source.import.x_unit = Some(match u.to_ascii_lowercase().as_str() {
             "nm" => XUnit::Nanometre,
             "um" | "µm" | "micrometre" => XUnit::Micrometre,
             "cm-1" | "1/cm" | "wavenumber" => XUnit::Wavenumber,
@@ -76,24 +77,28 @@ pub fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
             }
         });
     }
-    if let Some(lf) = opts.ligand_field.as_mut() {
-        lf.bands = args
-            .values("--band")?
-            .iter()
-            .map(|b| super::fit::parse_band(b))
-            .collect::<Result<Vec<_>, _>>()?;
-    }
+    lf.bands = args
+        .values("--band")?
+        .iter()
+        .map(|b| super::fit::parse_band(b))
+        .collect::<Result<Vec<_>, _>>()?;
     let file = args
         .next_positional()
         .ok_or_else(|| CliError::Usage("analyze needs a spectrum FILE".into()))?;
     args.finish()?;
     let bytes =
         std::fs::read(&file).map_err(|e| CliError::Failed(format!("cannot read {file}: {e}")))?;
-    let analysis = analysis::analyze_file(&bytes, &file, &opts)
-        .map_err(|e| CliError::Failed(format!("{file}: {e}")))?;
+    let fail = |e: analysis::AnalysisError| CliError::Failed(format!("{file}: {e}"));
+    let mut doc = Document::import(&bytes, &file, source, opts).map_err(fail)?;
+    doc.ligand_field = Some(lf.into());
+    let mut doc = analysis::analyze(&doc, &mut |_| true).map_err(fail)?;
     if json {
-        return super::print_json(&analysis);
+        doc.sample.data = None;
+        return super::print_json(&doc);
     }
+    let Some(analysis) = doc.results else {
+        return Ok(());
+    };
     let i = &analysis.import;
     println!(
         "{}: {} points, {:.0}–{:.0} cm⁻¹",
@@ -109,7 +114,12 @@ pub fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
             b.height
         );
     }
-    for w in analysis.warnings.iter().chain(&analysis.bands.fit.warnings) {
+    for w in doc
+        .notices
+        .iter()
+        .chain(&analysis.warnings)
+        .chain(&analysis.bands.fit.warnings)
+    {
         println!("warning: {w}");
     }
     match (&analysis.fit, &analysis.fit_error) {

@@ -2,7 +2,7 @@
 //! [--range LO:HI] [--epsilon] [--max-iterations N]`: resolves overlapping bands.
 
 use super::{Args, CliError};
-use crate::analysis::{self, AnalysisError, AnalysisOptions};
+use crate::analysis::{self, AnalysisError, BandSetup, Source};
 use crate::bands::Shape;
 use crate::spectrum::Quantity;
 
@@ -55,19 +55,20 @@ pub fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
     args.finish()?;
     let bytes =
         std::fs::read(&file).map_err(|e| CliError::Failed(format!("cannot read {file}: {e}")))?;
-    let mut opts = AnalysisOptions {
+    let opts = BandSetup {
         range: range.map(|(lo, hi)| [lo, hi]),
-        bands: count,
+        count,
         shape,
         baseline,
         max_iterations,
-        ..AnalysisOptions::default()
+        model: None,
     };
+    let mut source = Source::default();
     if molar_absorptivity {
-        opts.import.y_quantity = Some(Quantity::MolarAbsorptivity);
+        source.import.y_quantity = Some(Quantity::MolarAbsorptivity);
     }
     let fail = |e: AnalysisError| CliError::Failed(format!("{file}: {e}"));
-    let spectrum = analysis::pick_spectrum(&bytes, &file, &opts).map_err(fail)?;
+    let spectrum = analysis::pick_spectrum(&bytes, &file, &source).map_err(fail)?;
     let result = analysis::deconvolve(&spectrum, &opts, &mut |_| true).map_err(fail)?;
     if json {
         return super::print_json(&result);

@@ -144,7 +144,7 @@ struct BandRequest {
     quantity: Option<crate::spectrum::Quantity>,
     #[serde(default)]
     saturated: Vec<[f64; 2]>,
-    options: crate::analysis::AnalysisOptions,
+    options: crate::analysis::BandSetup,
     #[serde(default)]
     model: Option<crate::bands::BandModel>,
 }
@@ -170,7 +170,7 @@ struct FitView {
 }
 
 /// The band fit of `ddlens deconvolve` (`analysis::deconvolve`, or
-/// `pipeline::refit` from the given model): same points, weights and options.
+/// `analysis::refit` from the given model): same points, weights and options.
 /// `progress` is called with the iteration number; returning false cancels.
 #[wasm_bindgen]
 pub fn deconvolve_bands(
