@@ -45,6 +45,8 @@ use std::fmt;
 pub mod defaults;
 pub mod document;
 mod load;
+mod migrate;
+mod validate;
 
 pub use document::{
     BandCount, BandSetup, Choice, Display, Document, LigandFieldOptions, PageState, Project,
