@@ -66,11 +66,12 @@ impl<E: std::error::Error + Send + Sync> From<plotters::drawing::DrawingAreaErro
 /// not finite or beyond ±[`MAX_AXIS_MAGNITUDE`]; an empty or vanishing span
 /// is widened around its value.
 pub fn axis_range(lo: f64, hi: f64, axis: &'static str) -> Result<[f64; 2], FigureError> {
+    // Checked before ordering: f64::min and max drop a NaN end silently.
+    if !(lo.is_finite() && hi.is_finite()) {
+        return Err(FigureError::AxisRange(axis));
+    }
     let (lo, hi) = (lo.min(hi), lo.max(hi));
-    if !(lo.is_finite() && hi.is_finite())
-        || lo.abs() > MAX_AXIS_MAGNITUDE
-        || hi.abs() > MAX_AXIS_MAGNITUDE
-    {
+    if lo.abs() > MAX_AXIS_MAGNITUDE || hi.abs() > MAX_AXIS_MAGNITUDE {
         return Err(FigureError::AxisRange(axis));
     }
     // Narrower than ~1e-9 of its magnitude, tick labels could not tell ends apart.
