@@ -1,7 +1,8 @@
 //! `ddlens diagram`: E/B against Δ/B at fixed C/B as JSON, CSV or SVG.
 
 use super::{print_json, Args, CliError};
-use crate::ligand_field::{diagram, draw_diagram, parse_configuration, DiagramStyle};
+use crate::figures::diagram::{draw_diagram, DiagramStyle};
+use crate::ligand_field::{diagram, parse_configuration};
 use plotters::prelude::{IntoDrawingArea, SVGBackend};
 
 const HELP: &str = "\
