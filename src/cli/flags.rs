@@ -9,9 +9,10 @@
 //!
 //! # Adding an option
 //! 1. Add its field to [`Parsed`].
-//! 2. Add one `pub const NAME: Flag = Flag { … }` below, with its `update`
-//!    (use [`number`], [`whole`] or `FromStr` as the existing ones do) and a
-//!    test right under it.
+//! 2. Add one `pub const NAME: Flag = Flag::takes("--name", "VALUE", "help", update)`
+//!    (or `Flag::switch` for a switch) below, with its `update` (use
+//!    [`number`], [`whole`] or `FromStr` as the existing ones do) and a test
+//!    right under it; `.more(…)`, `.repeatable()`, `.hidden()` adjust it.
 //! 3. List the constant in the `FLAGS` of each command that accepts it, and
 //!    read the field in that command's `run`.
 
@@ -40,6 +41,68 @@ pub struct Flag {
     pub hidden: bool,
     /// Checks the value and stores it; `None` for a switch.
     pub update: fn(&mut Parsed, Option<&str>) -> Result<(), CliError>,
+}
+
+impl Flag {
+    /// An option that takes a value, e.g. `--range LO:HI`.
+    pub const fn takes(
+        name: &'static str,
+        value: &'static str,
+        help: &'static str,
+        update: fn(&mut Parsed, Option<&str>) -> Result<(), CliError>,
+    ) -> Flag {
+        Flag {
+            name,
+            short: None,
+            value: Some(value),
+            help,
+            long: "",
+            repeat: false,
+            hidden: false,
+            update,
+        }
+    }
+
+    /// A switch without a value, e.g. `--json`.
+    pub const fn switch(
+        name: &'static str,
+        help: &'static str,
+        update: fn(&mut Parsed, Option<&str>) -> Result<(), CliError>,
+    ) -> Flag {
+        Flag {
+            value: None,
+            ..Flag::takes(name, "", help, update)
+        }
+    }
+
+    /// Also spelt `short` (e.g. `-h`).
+    pub const fn or_short(self, short: &'static str) -> Flag {
+        Flag {
+            short: Some(short),
+            ..self
+        }
+    }
+
+    /// Further help lines.
+    pub const fn more(self, long: &'static str) -> Flag {
+        Flag { long, ..self }
+    }
+
+    /// May be given more than once.
+    pub const fn repeatable(self) -> Flag {
+        Flag {
+            repeat: true,
+            ..self
+        }
+    }
+
+    /// Left out of `--help`.
+    pub const fn hidden(self) -> Flag {
+        Flag {
+            hidden: true,
+            ..self
+        }
+    }
 }
 
 /// The typed flags of one command line (stage one's result).
@@ -156,47 +219,27 @@ pub const MAX_ITERATIONS: usize = 1_000_000;
 /// The widest Savitzky–Golay window the hidden `--savgol-coeffs` accepts.
 pub const MAX_SAVGOL_WINDOW: usize = 10_001;
 
-pub const HELP: Flag = Flag {
-    name: "--help",
-    short: Some("-h"),
-    value: None,
-    help: "this text",
-    long: "",
-    repeat: true,
-    hidden: false,
-    update: |p, _| {
-        p.help = true;
-        Ok(())
-    },
-};
+pub const HELP: Flag = Flag::switch("--help", "this text", |p, _| {
+    p.help = true;
+    Ok(())
+})
+.or_short("-h")
+.repeatable();
 
-pub const JSON: Flag = Flag {
-    name: "--json",
-    short: None,
-    value: None,
-    help: "machine-readable output (the schema of the browser and saved projects)",
-    long: "",
-    repeat: true,
-    hidden: false,
-    update: |p, _| {
+pub const JSON: Flag = Flag::switch(
+    "--json",
+    "machine-readable output (the schema of the browser and saved projects)",
+    |p, _| {
         p.json = true;
         Ok(())
     },
-};
+)
+.repeatable();
 
-pub const CONFIG: Flag = Flag {
-    name: "--config",
-    short: None,
-    value: Some("dN"),
-    help: "the configuration, d1 … d9",
-    long: "",
-    repeat: false,
-    hidden: false,
-    update: |p, v| {
-        p.config = Some(usage(parse_configuration(given(v)))?);
-        Ok(())
-    },
-};
+pub const CONFIG: Flag = Flag::takes("--config", "dN", "the configuration, d1 … d9", |p, v| {
+    p.config = Some(usage(parse_configuration(given(v)))?);
+    Ok(())
+});
 
 #[cfg(test)]
 mod config_tests {
@@ -210,33 +253,25 @@ mod config_tests {
     }
 }
 
-pub const ION: Flag = Flag {
-    name: "--ion",
-    short: None,
-    value: Some("ION"),
-    help: "the metal ion, e.g. Cr3+ or Ni(II) (gives dⁿ, B₀ for β and the default C/B)",
-    long: "",
-    repeat: false,
-    hidden: false,
-    update: |p, v| {
+pub const ION: Flag = Flag::takes(
+    "--ion",
+    "ION",
+    "the metal ion, e.g. Cr3+ or Ni(II) (gives dⁿ, B₀ for β and the default C/B)",
+    |p, v| {
         p.ion = v.map(String::from);
         Ok(())
     },
-};
+);
 
-pub const GEOMETRY: Flag = Flag {
-    name: "--geometry",
-    short: None,
-    value: Some("G"),
-    help: "octahedral (oh, default) or tetrahedral (td)",
-    long: "",
-    repeat: false,
-    hidden: false,
-    update: |p, v| {
+pub const GEOMETRY: Flag = Flag::takes(
+    "--geometry",
+    "G",
+    "octahedral (oh, default) or tetrahedral (td)",
+    |p, v| {
         p.geometry = Some(usage(given(v).parse::<Geometry>())?);
         Ok(())
     },
-};
+);
 
 #[cfg(test)]
 mod geometry_tests {
@@ -250,47 +285,25 @@ mod geometry_tests {
     }
 }
 
-pub const DQ: Flag = Flag {
-    name: "--dq",
-    short: None,
-    value: Some("DQ"),
-    help: "Dq in cm⁻¹ (|Dq| ≤ 100000; tetrahedral Dq is the ion's own, Δt = 10Dq)",
-    long: "",
-    repeat: false,
-    hidden: false,
-    update: |p, v| {
+pub const DQ: Flag = Flag::takes(
+    "--dq",
+    "DQ",
+    "Dq in cm⁻¹ (|Dq| ≤ 100000; tetrahedral Dq is the ion's own, Δt = 10Dq)",
+    |p, v| {
         p.dq = Some(number("--dq", v)?);
         Ok(())
     },
-};
+);
 
-pub const B: Flag = Flag {
-    name: "--b",
-    short: None,
-    value: Some("B"),
-    help: "Racah B in cm⁻¹ (≥ 0)",
-    long: "",
-    repeat: false,
-    hidden: false,
-    update: |p, v| {
-        p.b = Some(number("--b", v)?);
-        Ok(())
-    },
-};
+pub const B: Flag = Flag::takes("--b", "B", "Racah B in cm⁻¹ (≥ 0)", |p, v| {
+    p.b = Some(number("--b", v)?);
+    Ok(())
+});
 
-pub const C: Flag = Flag {
-    name: "--c",
-    short: None,
-    value: Some("C"),
-    help: "Racah C in cm⁻¹ (≥ 0)",
-    long: "",
-    repeat: false,
-    hidden: false,
-    update: |p, v| {
-        p.c = Some(number("--c", v)?);
-        Ok(())
-    },
-};
+pub const C: Flag = Flag::takes("--c", "C", "Racah C in cm⁻¹ (≥ 0)", |p, v| {
+    p.c = Some(number("--c", v)?);
+    Ok(())
+});
 
 #[cfg(test)]
 mod racah_tests {
@@ -305,61 +318,45 @@ mod racah_tests {
     }
 }
 
-pub const DUMP_CK: Flag = Flag {
-    name: "--dump-ck",
-    short: None,
-    value: None,
-    help: "print the angular coefficients c^k(m, m′) (SymPy reference check)",
-    long: "",
-    repeat: false,
-    hidden: true,
-    update: |p, _| {
+pub const DUMP_CK: Flag = Flag::switch(
+    "--dump-ck",
+    "print the angular coefficients c^k(m, m′) (SymPy reference check)",
+    |p, _| {
         p.dump_ck = true;
         Ok(())
     },
-};
+)
+.hidden();
 
-pub const C_OVER_B: Flag = Flag {
-    name: "--c-over-b",
-    short: None,
-    value: Some("G"),
-    help: "hold C/B at G (default: the ion's free-ion C₀/B₀, else 4.5)",
-    long: "",
-    repeat: false,
-    hidden: false,
-    update: |p, v| {
+pub const C_OVER_B: Flag = Flag::takes(
+    "--c-over-b",
+    "G",
+    "hold C/B at G (default: the ion's free-ion C₀/B₀, else 4.5)",
+    |p, v| {
         p.c_over_b = Some(number("--c-over-b", v)?);
         Ok(())
     },
-};
+);
 
-pub const MAX: Flag = Flag {
-    name: "--max",
-    short: None,
-    value: Some("X"),
-    help: "the diagram runs from Δ/B = 0 to X (default 40)",
-    long: "",
-    repeat: false,
-    hidden: false,
-    update: |p, v| {
+pub const MAX: Flag = Flag::takes(
+    "--max",
+    "X",
+    "the diagram runs from Δ/B = 0 to X (default 40)",
+    |p, v| {
         p.max = Some(number("--max", v)?);
         Ok(())
     },
-};
+);
 
-pub const POINTS: Flag = Flag {
-    name: "--points",
-    short: None,
-    value: Some("N"),
-    help: "points per curve (default 400, at most 100000)",
-    long: "",
-    repeat: false,
-    hidden: false,
-    update: |p, v| {
+pub const POINTS: Flag = Flag::takes(
+    "--points",
+    "N",
+    "points per curve (default 400, at most 100000)",
+    |p, v| {
         p.points = Some(whole("--points", v, 0, MAX_DIAGRAM_POINTS)?);
         Ok(())
     },
-};
+);
 
 #[cfg(test)]
 mod points_tests {
@@ -375,113 +372,74 @@ mod points_tests {
     }
 }
 
-pub const SVG: Flag = Flag {
-    name: "--svg",
-    short: None,
-    value: Some("FILE"),
-    help: "write the diagram as SVG",
-    long: "",
-    repeat: false,
-    hidden: false,
-    update: |p, v| {
-        p.svg = v.map(String::from);
-        Ok(())
-    },
-};
+pub const SVG: Flag = Flag::takes("--svg", "FILE", "write the diagram as SVG", |p, v| {
+    p.svg = v.map(String::from);
+    Ok(())
+});
 
-pub const CSV: Flag = Flag {
-    name: "--csv",
-    short: None,
-    value: Some("FILE"),
-    help: "write the diagram's curves as CSV",
-    long: "",
-    repeat: false,
-    hidden: false,
-    update: |p, v| {
+pub const CSV: Flag = Flag::takes(
+    "--csv",
+    "FILE",
+    "write the diagram's curves as CSV",
+    |p, v| {
         p.csv = v.map(String::from);
         Ok(())
     },
-};
+);
 
-pub const FREE_C: Flag = Flag {
-    name: "--free-c",
-    short: None,
-    value: None,
-    help: "fit C too (three or more bands)",
-    long: "",
-    repeat: false,
-    hidden: false,
-    update: |p, _| {
-        p.free_c = true;
-        Ok(())
-    },
-};
+pub const FREE_C: Flag = Flag::switch("--free-c", "fit C too (three or more bands)", |p, _| {
+    p.free_c = true;
+    Ok(())
+});
 
-pub const SPIN_FORBIDDEN: Flag = Flag {
-    name: "--spin-forbidden",
-    short: None,
-    value: None,
-    help: "consider spin-forbidden (ΔS = ±1) transitions",
-    long: "",
-    repeat: false,
-    hidden: false,
-    update: |p, _| {
+pub const SPIN_FORBIDDEN: Flag = Flag::switch(
+    "--spin-forbidden",
+    "consider spin-forbidden (ΔS = ±1) transitions",
+    |p, _| {
         p.spin_forbidden = true;
         Ok(())
     },
-};
+);
 
-pub const B0_SOURCE: Flag = Flag {
-    name: "--b0-source",
-    short: None,
-    value: Some("NAME"),
-    help: "free-ion table for β: common or jolly",
-    long: "",
-    repeat: false,
-    hidden: false,
-    update: |p, v| {
+pub const B0_SOURCE: Flag = Flag::takes(
+    "--b0-source",
+    "NAME",
+    "free-ion table for β: common or jolly",
+    |p, v| {
         p.b0_source = v.map(String::from);
         Ok(())
     },
-};
+);
 
-pub const LIGAND: Flag = Flag {
-    name: "--ligand",
-    short: None,
-    value: Some("L"),
-    help: "the ligand (e.g. H2O, NH3, Cl-) for Jørgensen's estimates",
-    long: "",
-    repeat: false,
-    hidden: false,
-    update: |p, v| {
+pub const LIGAND: Flag = Flag::takes(
+    "--ligand",
+    "L",
+    "the ligand (e.g. H2O, NH3, Cl-) for Jørgensen's estimates",
+    |p, v| {
         p.ligand = v.map(String::from);
         Ok(())
     },
-};
+);
 
 /// `--band` as `fit` reads it: every band is observed.
-pub const BAND: Flag = Flag {
-    name: "--band",
-    short: None,
-    value: Some("E[:S[:STATE]]"),
-    help: "a band maximum in cm⁻¹, optionally its uncertainty and a forced state",
-    long: "(e.g. 24600:250:4T1g); `--band 33000:x` marks a band as not d–d (repeatable)",
-    repeat: true,
-    hidden: false,
-    update: update_band,
-};
+pub const BAND: Flag = Flag::takes(
+    "--band",
+    "E[:S[:STATE]]",
+    "a band maximum in cm⁻¹, optionally its uncertainty and a forced state",
+    update_band,
+)
+.more("(e.g. 24600:250:4T1g); `--band 33000:x` marks a band as not d–d (repeatable)")
+.repeatable();
 
 /// `--band` as `analyze` reads it: it fixes the band found nearest E.
-pub const BAND_FIX: Flag = Flag {
-    name: "--band",
-    short: None,
-    value: Some("E:STATE"),
-    help: "fix the band found nearest E cm⁻¹ (within 3 %) to STATE (e.g. 23300:4T1g(P));",
-    long: "`--band 23300:x` marks it as not d–d (repeatable)",
-    repeat: true,
-    hidden: false,
-    update: update_band,
-};
+pub const BAND_FIX: Flag = Flag::takes(
+    "--band",
+    "E:STATE",
+    "fix the band found nearest E cm⁻¹ (within 3 %) to STATE (e.g. 23300:4T1g(P));",
+    update_band,
+)
+.more("`--band 23300:x` marks it as not d–d (repeatable)")
+.repeatable();
 
 fn update_band(p: &mut Parsed, v: Option<&str>) -> Result<(), CliError> {
     p.bands.push(parse_band(given(v))?);
@@ -501,47 +459,35 @@ mod band_tests {
     }
 }
 
-pub const OBSERVED_FROM: Flag = Flag {
-    name: "--observed-from",
-    short: None,
-    value: Some("E"),
-    help: "the spectrum starts at E cm⁻¹: lower transitions could not be seen",
-    long: "",
-    repeat: false,
-    hidden: false,
-    update: |p, v| {
+pub const OBSERVED_FROM: Flag = Flag::takes(
+    "--observed-from",
+    "E",
+    "the spectrum starts at E cm⁻¹: lower transitions could not be seen",
+    |p, v| {
         p.observed_from = Some(number("--observed-from", v)?);
         Ok(())
     },
-};
+);
 
-pub const MAX_PREDICTION: Flag = Flag {
-    name: "--max-prediction",
-    short: None,
-    value: Some("E"),
-    help: "predict transitions up to E cm⁻¹ (default 50 000)",
-    long: "",
-    repeat: false,
-    hidden: false,
-    update: |p, v| {
+pub const MAX_PREDICTION: Flag = Flag::takes(
+    "--max-prediction",
+    "E",
+    "predict transitions up to E cm⁻¹ (default 50 000)",
+    |p, v| {
         p.max_prediction = Some(number("--max-prediction", v)?);
         Ok(())
     },
-};
+);
 
-pub const X_UNIT: Flag = Flag {
-    name: "--x-unit",
-    short: None,
-    value: Some("UNIT"),
-    help: "the file's x unit: nm, um, cm-1 or eV (default: from the file)",
-    long: "",
-    repeat: false,
-    hidden: false,
-    update: |p, v| {
+pub const X_UNIT: Flag = Flag::takes(
+    "--x-unit",
+    "UNIT",
+    "the file's x unit: nm, um, cm-1 or eV (default: from the file)",
+    |p, v| {
         p.x_unit = Some(usage(given(v).parse::<XUnit>())?);
         Ok(())
     },
-};
+);
 
 #[cfg(test)]
 mod x_unit_tests {
@@ -555,99 +501,66 @@ mod x_unit_tests {
     }
 }
 
-pub const Y_QUANTITY: Flag = Flag {
-    name: "--y-quantity",
-    short: None,
-    value: Some("Q"),
-    help: "absorbance, transmittance, %T, epsilon or arbitrary (default: from the file)",
-    long: "",
-    repeat: false,
-    hidden: false,
-    update: |p, v| {
+pub const Y_QUANTITY: Flag = Flag::takes(
+    "--y-quantity",
+    "Q",
+    "absorbance, transmittance, %T, epsilon or arbitrary (default: from the file)",
+    |p, v| {
         p.y_quantity = Some(usage(given(v).parse::<Quantity>())?);
         Ok(())
     },
-};
+);
 
-pub const AIR_TO_VACUUM: Flag = Flag {
-    name: "--air-to-vacuum",
-    short: None,
-    value: None,
-    help: "wavelengths were measured in air: correct them to vacuum (Ciddor 1996)",
-    long: "",
-    repeat: false,
-    hidden: false,
-    update: |p, _| {
+pub const AIR_TO_VACUUM: Flag = Flag::switch(
+    "--air-to-vacuum",
+    "wavelengths were measured in air: correct them to vacuum (Ciddor 1996)",
+    |p, _| {
         p.air_to_vacuum = true;
         Ok(())
     },
-};
+);
 
-pub const CONCENTRATION: Flag = Flag {
-    name: "--concentration",
-    short: None,
-    value: Some("M"),
-    help: "concentration in mol/L; with --path-length gives ε = A/(c·l)",
-    long: "",
-    repeat: false,
-    hidden: false,
-    update: |p, v| {
+pub const CONCENTRATION: Flag = Flag::takes(
+    "--concentration",
+    "M",
+    "concentration in mol/L; with --path-length gives ε = A/(c·l)",
+    |p, v| {
         p.concentration = Some(number("--concentration", v)?);
         Ok(())
     },
-};
+);
 
-pub const PATH_LENGTH: Flag = Flag {
-    name: "--path-length",
-    short: None,
-    value: Some("CM"),
-    help: "cell path length in cm",
-    long: "",
-    repeat: false,
-    hidden: false,
-    update: |p, v| {
+pub const PATH_LENGTH: Flag =
+    Flag::takes("--path-length", "CM", "cell path length in cm", |p, v| {
         p.path_length = Some(number("--path-length", v)?);
         Ok(())
-    },
-};
+    });
 
-pub const EXPORT_CSV: Flag = Flag {
-    name: "--export-csv",
-    short: None,
-    value: Some("FILE"),
-    help: "write the converted spectra (cm⁻¹, ascending) as CSV",
-    long: "",
-    repeat: false,
-    hidden: false,
-    update: |p, v| {
+pub const EXPORT_CSV: Flag = Flag::takes(
+    "--export-csv",
+    "FILE",
+    "write the converted spectra (cm⁻¹, ascending) as CSV",
+    |p, v| {
         p.export_csv = v.map(String::from);
         Ok(())
     },
-};
+);
 
-pub const RAW: Flag = Flag {
-    name: "--raw",
-    short: None,
-    value: None,
-    help: "x and y in file units and file order, no conversion (JSON only)",
-    long: "",
-    repeat: false,
-    hidden: true,
-    update: |p, _| {
+pub const RAW: Flag = Flag::switch(
+    "--raw",
+    "x and y in file units and file order, no conversion (JSON only)",
+    |p, _| {
         p.raw = true;
         Ok(())
     },
-};
+)
+.hidden();
 
-pub const SAVGOL_COEFFS: Flag = Flag {
-    name: "--savgol-coeffs",
-    short: None,
-    value: Some("W,O,D"),
-    help: "Savitzky–Golay coefficients for window W, order O, derivative D",
-    long: "",
-    repeat: false,
-    hidden: true,
-    update: |p, v| {
+pub const SAVGOL_COEFFS: Flag = Flag::takes(
+    "--savgol-coeffs",
+    "W,O,D",
+    "Savitzky–Golay coefficients for window W, order O, derivative D",
+    |p, v| {
         let text = given(v);
         let parts: Vec<&str> = text.split(',').collect();
         let [w, o, d] = parts[..] else {
@@ -664,7 +577,8 @@ pub const SAVGOL_COEFFS: Flag = Flag {
         ]);
         Ok(())
     },
-};
+)
+.hidden();
 
 #[cfg(test)]
 mod savgol_tests {
@@ -679,15 +593,11 @@ mod savgol_tests {
     }
 }
 
-pub const BANDS: Flag = Flag {
-    name: "--bands",
-    short: None,
-    value: Some("N|auto"),
-    help: "number of bands (default auto: chosen by BIC, up to 6)",
-    long: "",
-    repeat: false,
-    hidden: false,
-    update: |p, v| {
+pub const BANDS: Flag = Flag::takes(
+    "--bands",
+    "N|auto",
+    "number of bands (default auto: chosen by BIC, up to 6)",
+    |p, v| {
         p.band_count = Some(match given(v) {
             "auto" => BandCount::Auto(6),
             text => BandCount::Fixed(
@@ -704,7 +614,7 @@ pub const BANDS: Flag = Flag {
         });
         Ok(())
     },
-};
+);
 
 #[cfg(test)]
 mod bands_tests {
@@ -721,36 +631,29 @@ mod bands_tests {
     }
 }
 
-pub const SHAPE: Flag = Flag {
-    name: "--shape",
-    short: None,
-    value: Some("S"),
-    help: "gaussian (default), lorentzian, pseudo-voigt, voigt, skew-gaussian",
-    long: "",
-    repeat: false,
-    hidden: false,
-    update: |p, v| {
+pub const SHAPE: Flag = Flag::takes(
+    "--shape",
+    "S",
+    "gaussian (default), lorentzian, pseudo-voigt, voigt, skew-gaussian",
+    |p, v| {
         p.shape = Some(usage(given(v).parse::<Shape>())?);
         Ok(())
     },
-};
+);
 
-pub const BASELINE: Flag = Flag {
-    name: "--baseline",
-    short: None,
-    value: Some("B"),
-    help: "auto (default: linear or scattering, by BIC), none,",
-    long: "constant, linear, polynomial:N, scattering, ct-tail",
-    repeat: false,
-    hidden: false,
-    update: |p, v| {
+pub const BASELINE: Flag = Flag::takes(
+    "--baseline",
+    "B",
+    "auto (default: linear or scattering, by BIC), none,",
+    |p, v| {
         p.baseline = match given(v) {
             "auto" => None,
             b => Some(usage(b.parse::<BaselineModel>())?),
         };
         Ok(())
     },
-};
+)
+.more("constant, linear, polynomial:N, scattering, ct-tail");
 
 #[cfg(test)]
 mod shape_and_baseline_tests {
@@ -766,19 +669,10 @@ mod shape_and_baseline_tests {
     }
 }
 
-pub const RANGE: Flag = Flag {
-    name: "--range",
-    short: None,
-    value: Some("LO:HI"),
-    help: "use only LO–HI cm⁻¹",
-    long: "",
-    repeat: false,
-    hidden: false,
-    update: |p, v| {
-        p.range = Some(parse_range(given(v))?);
-        Ok(())
-    },
-};
+pub const RANGE: Flag = Flag::takes("--range", "LO:HI", "use only LO–HI cm⁻¹", |p, v| {
+    p.range = Some(parse_range(given(v))?);
+    Ok(())
+});
 
 #[cfg(test)]
 mod range_tests {
@@ -792,33 +686,24 @@ mod range_tests {
     }
 }
 
-pub const EPSILON: Flag = Flag {
-    name: "--epsilon",
-    short: None,
-    value: None,
-    help: "y is ε in L mol⁻¹ cm⁻¹: report oscillator strengths and classes",
-    long: "",
-    repeat: false,
-    hidden: false,
-    update: |p, _| {
+pub const EPSILON: Flag = Flag::switch(
+    "--epsilon",
+    "y is ε in L mol⁻¹ cm⁻¹: report oscillator strengths and classes",
+    |p, _| {
         p.epsilon = true;
         Ok(())
     },
-};
+);
 
-pub const MAX_ITERATIONS_FLAG: Flag = Flag {
-    name: "--max-iterations",
-    short: None,
-    value: Some("N"),
-    help: "solver iteration limit (default 200, at most 1000000)",
-    long: "",
-    repeat: false,
-    hidden: false,
-    update: |p, v| {
+pub const MAX_ITERATIONS_FLAG: Flag = Flag::takes(
+    "--max-iterations",
+    "N",
+    "solver iteration limit (default 200, at most 1000000)",
+    |p, v| {
         p.max_iterations = Some(whole("--max-iterations", v, 1, MAX_ITERATIONS)?);
         Ok(())
     },
-};
+);
 
 #[cfg(test)]
 mod max_iterations_tests {
@@ -836,19 +721,15 @@ mod max_iterations_tests {
 /// The most spectra a file may be asked for by `--spectrum`.
 pub const MAX_SPECTRUM: usize = 1_000_000;
 
-pub const SPECTRUM: Flag = Flag {
-    name: "--spectrum",
-    short: None,
-    value: Some("K"),
-    help: "the K-th spectrum of the file (default 1)",
-    long: "",
-    repeat: false,
-    hidden: false,
-    update: |p, v| {
+pub const SPECTRUM: Flag = Flag::takes(
+    "--spectrum",
+    "K",
+    "the K-th spectrum of the file (default 1)",
+    |p, v| {
         p.spectrum = Some(whole("--spectrum", v, 1, MAX_SPECTRUM)? - 1);
         Ok(())
     },
-};
+);
 
 /// Stage one: the words after the command name, read against `flags`.
 pub fn parse(words: &[String], flags: &[&Flag], command: &str) -> Result<Parsed, CliError> {
