@@ -172,3 +172,11 @@ fn a_closed_pipe_ends_the_output_quietly_with_exit_zero() {
     assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
     assert_eq!(stderr(&out), "");
 }
+
+#[test]
+fn json_may_come_before_the_command() {
+    let before = ddlens(&["--json", "levels", "--dump-ck"]);
+    let after = ddlens(&["levels", "--dump-ck", "--json"]);
+    assert!(before.status.success(), "{}", stderr(&before));
+    assert_eq!(before.stdout, after.stdout);
+}

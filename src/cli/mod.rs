@@ -124,11 +124,16 @@ const COMMANDS: [(&str, Command); 6] = [
 ];
 
 fn run(argv: &[String]) -> Result<String, CliError> {
-    let Some(command) = argv.first() else {
+    // `--json` may come before the command (`ddlens --json levels …`).
+    let mut words: Vec<String> = argv.to_vec();
+    if let Some(i) = words.iter().position(|w| w != "--json") {
+        words.rotate_left(i);
+    }
+    let Some(command) = words.first().filter(|w| *w != "--json") else {
         write_stdout(HELP);
         return Err(CliError::Usage("no command given".into()));
     };
-    let rest = &argv[1..];
+    let rest = &words[1..];
     match command.as_str() {
         "--version" | "-V" => return Ok(format!("ddlens {}\n", ddlens::VERSION)),
         "--help" | "-h" => return Ok(HELP.to_string()),
