@@ -12,7 +12,7 @@ Imports FILE, resolves its bands, assigns them and fits 10Dq, B (and C).
 The exit code is 1 when the ligand-field fit fails (the bands are still reported).
 ";
 
-const FLAGS: [&Flag; 17] = [
+pub(super) const FLAGS: [&Flag; 17] = [
     &flags::ION,
     &flags::CONFIG,
     &flags::GEOMETRY,

@@ -14,7 +14,7 @@ read as `ddlens import` reads it; the first spectrum of the file). Points are we
 by their share of the wavenumber axis; saturated regions are left out.
 ";
 
-const FLAGS: [&Flag; 8] = [
+pub(super) const FLAGS: [&Flag; 8] = [
     &flags::BANDS,
     &flags::SHAPE,
     &flags::BASELINE,

@@ -14,7 +14,7 @@ USAGE:
                    [--svg FILE] [--csv FILE] [--json]
 ";
 
-const FLAGS: [&Flag; 9] = [
+pub(super) const FLAGS: [&Flag; 9] = [
     &flags::CONFIG,
     &flags::GEOMETRY,
     &flags::C_OVER_B,

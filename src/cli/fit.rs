@@ -11,7 +11,7 @@ ddlens fit [OPTIONS] --band E[:SIGMA] --band …
 Finds the assignment of the bands and fits 10Dq, B (and C).
 ";
 
-const FLAGS: [&Flag; 13] = [
+pub(super) const FLAGS: [&Flag; 13] = [
     &flags::CONFIG,
     &flags::ION,
     &flags::GEOMETRY,

@@ -20,7 +20,7 @@ ddlens import FILE — read a spectrum file (CSV/TXT, JCAMP-DX) and report what 
 FILE must be a regular file of at most 256 MiB (no directory, device or pipe).
 ";
 
-const FLAGS: [&Flag; 10] = [
+pub(super) const FLAGS: [&Flag; 10] = [
     &flags::X_UNIT,
     &flags::Y_QUANTITY,
     &flags::AIR_TO_VACUUM,

@@ -16,7 +16,7 @@ USAGE:
     ddlens levels --config d3 --geometry octahedral --dq 1740 --b 725 --c 3263 [--json]
 ";
 
-const FLAGS: [&Flag; 8] = [
+pub(super) const FLAGS: [&Flag; 8] = [
     &flags::CONFIG,
     &flags::GEOMETRY,
     &flags::DQ,

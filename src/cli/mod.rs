@@ -269,3 +269,28 @@ pub(crate) fn json_text<T: serde::Serialize>(value: &T) -> Result<String, CliErr
     text.push('\n');
     Ok(text)
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn no_command_lists_one_option_name_twice() {
+        let lists: [&[&flags::Flag]; 6] = [
+            &levels::FLAGS,
+            &diagram::FLAGS,
+            &fit::FLAGS,
+            &import::FLAGS,
+            &deconvolve::FLAGS,
+            &analyze::FLAGS,
+        ];
+        for list in lists {
+            let mut names: Vec<&str> = list.iter().map(|f| f.name).collect();
+            let count = names.len();
+            names.sort_unstable();
+            names.dedup();
+            assert_eq!(names.len(), count, "{names:?}");
+            assert!(names.contains(&"--help") && names.contains(&"--json"));
+        }
+    }
+}
