@@ -5,7 +5,6 @@
 //! See DEVELOPERS.md for the code map and the invariants.
 
 pub mod bands;
-pub mod cli;
 pub mod estimate;
 pub mod figures;
 pub mod ions;
