@@ -124,7 +124,7 @@ impl Defaults {
                     BaselineMethod::Scattering { exponent: None },
                 ],
             },
-            palette: crate::plot::palette::SERIES
+            palette: crate::figures::style::SERIES
                 .iter()
                 .map(|c| format!("#{:02x}{:02x}{:02x}", c.0, c.1, c.2))
                 .collect(),
