@@ -441,7 +441,7 @@ pub fn assign(
                     ));
                 } else {
                     fit_error = Some(format!(
-                        "{m}; every band left has a forced state, so none can be set aside — change or remove a forced state"
+                        "{m}; every band left has a forced state, so none can be set aside: the forced states cannot all hold at once (check their order) — change or remove one"
                     ));
                     break;
                 }
