@@ -14,7 +14,9 @@ pub mod ligand_field;
 pub mod pipeline;
 pub mod plot;
 pub mod preprocess;
+pub mod solver;
 pub mod spectrum;
+pub mod stats;
 
 #[cfg(target_arch = "wasm32")]
 pub mod web;

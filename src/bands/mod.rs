@@ -12,10 +12,12 @@
 //! 10 m mol⁻¹ per unit, so f = 4.319×10⁻⁹ ∫ε dν̃ (CALC; the textbook 4.32×10⁻⁹).
 
 pub mod guess;
-pub mod lm;
+/// The least-squares solver, now [`crate::solver`]; kept under this path for callers.
+pub use crate::solver as lm;
 mod model;
 pub mod shapes;
-pub mod stats;
+/// The fit statistics, now [`crate::stats`]; kept under this path for callers.
+pub use crate::stats;
 
 pub use guess::guess;
 pub use lm::{Progress, StopReason};

@@ -13,9 +13,9 @@
 //! [0, 6]), and a charge-transfer tail a₀ + a Gaussian whose centre is held
 //! above the highest wavenumber of the data.
 
-use super::lm::LeastSquares;
 use super::shapes::{self, Shape};
 use super::BaselineModel;
+use crate::solver::LeastSquares;
 
 /// One model parameter: its name, bounds and how it derives from q.
 #[derive(Debug, Clone)]
