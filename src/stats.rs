@@ -73,14 +73,44 @@ impl Covariance {
     }
 }
 
+/// How the covariance is scaled: the s² in C = s²·(JᵀJ)⁺.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum ErrorScale {
+    /// s² = χ²/(N − P): errors scaled by the reduced χ² (lmfit
+    /// `scale_covar=True`, SciPy `absolute_sigma=False`, NIST StRD). With no
+    /// degrees of freedom left, s² = 1.
+    ReducedChi2 {
+        chi2: f64,
+        points: usize,
+        parameters: usize,
+    },
+    /// s² = 1: the weights are absolute 1/σ².
+    Absolute,
+}
+
+impl ErrorScale {
+    /// The factor s².
+    pub fn s2(self) -> f64 {
+        match self {
+            ErrorScale::ReducedChi2 {
+                chi2,
+                points,
+                parameters,
+            } if points > parameters => chi2 / (points - parameters) as f64,
+            _ => 1.0,
+        }
+    }
+}
+
 /// C = s²·(JᵀJ)⁺ over the columns with `include[j]`; J column-major m×n.
 pub fn covariance(
     jacobian: &[f64],
     m: usize,
     n: usize,
     include: &[bool],
-    s2: f64,
+    scale: ErrorScale,
 ) -> Option<Covariance> {
+    let s2 = scale.s2();
     let cols: Vec<usize> = (0..n)
         .filter(|&j| include.get(j).copied().unwrap_or(false))
         .collect();
@@ -172,18 +202,30 @@ mod tests {
         let jac: Vec<f64> = (0..80)
             .map(|i| if i % 2 == 0 { 1e300 } else { -1e300 })
             .collect();
-        assert!(covariance(&jac, 40, 2, &[true, true], 1.0).is_none());
+        assert!(covariance(&jac, 40, 2, &[true, true], ErrorScale::Absolute).is_none());
         let mut nan = vec![1.0; 80];
         nan[3] = f64::NAN;
-        assert!(covariance(&nan, 40, 2, &[true, true], 1.0).is_none());
+        assert!(covariance(&nan, 40, 2, &[true, true], ErrorScale::Absolute).is_none());
     }
 
     /// J = [[1, 0], [0, 2], [0, 0]]: (JᵀJ)⁻¹ = diag(1, 1/4) by hand.
     #[test]
     fn a_diagonal_jacobian_gives_the_inverse_squares() {
         let jac = [1.0, 0.0, 0.0, 0.0, 2.0, 0.0];
-        let c = covariance(&jac, 3, 2, &[true, true], 1.0).unwrap();
+        let c = covariance(&jac, 3, 2, &[true, true], ErrorScale::Absolute).unwrap();
         assert!((c.sigma(0).unwrap() - 1.0).abs() < 1e-15);
         assert!((c.sigma(1).unwrap() - 0.5).abs() < 1e-15);
+    }
+
+    #[test]
+    fn the_reduced_chi2_scale_divides_by_the_degrees_of_freedom() {
+        let scale = |points| ErrorScale::ReducedChi2 {
+            chi2: 12.0,
+            points,
+            parameters: 2,
+        };
+        assert_eq!(scale(6).s2(), 3.0);
+        assert_eq!(scale(2).s2(), 1.0);
+        assert_eq!(ErrorScale::Absolute.s2(), 1.0);
     }
 }

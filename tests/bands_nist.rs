@@ -275,8 +275,12 @@ fn nist_strd_certified_values() {
             let report = lm::solve(&problem, start, &opts, &mut |_| true)
                 .expect("solver refused the problem");
             let (m, n) = (problem.x.len(), start.len());
-            let s2 = report.chi2 / (m - n) as f64;
-            let cov = stats::covariance(&report.jacobian, m, n, &vec![true; n], s2);
+            let scale = stats::ErrorScale::ReducedChi2 {
+                chi2: report.chi2,
+                points: m,
+                parameters: n,
+            };
+            let cov = stats::covariance(&report.jacobian, m, n, &vec![true; n], scale);
             let param_digits = (0..n)
                 .map(|j| digits(report.x[j], problem.certified[j]))
                 .fold(f64::INFINITY, f64::min);

@@ -516,12 +516,16 @@ fn report_fit(c: &Compiled, report: &lm::LmReport, opts: &FitOptions) -> BandFit
     let p = c.expand(&report.x);
     let mut warnings = Vec::new();
     let include: Vec<bool> = report.at_bound.iter().map(|b| !b).collect();
-    let s2 = if opts.absolute_sigma {
-        1.0
+    let scale = if opts.absolute_sigma {
+        stats::ErrorScale::Absolute
     } else {
-        report.chi2 / (m - n) as f64
+        stats::ErrorScale::ReducedChi2 {
+            chi2: report.chi2,
+            points: m,
+            parameters: n,
+        }
     };
-    let cov = stats::covariance(&report.jacobian, m, n, &include, s2);
+    let cov = stats::covariance(&report.jacobian, m, n, &include, scale);
     if cov.is_none() {
         warnings
             .push("the covariance matrix could not be computed; no uncertainties are given".into());
