@@ -5,19 +5,8 @@
 use ddlens::spectrum::{
     import, ImportError, ImportOptions, ImportReport, MAX_MAGNITUDE, MAX_POINTS, MAX_SPECTRA,
 };
-use std::sync::mpsc;
-use std::time::Duration;
-
-/// Runs `f` on its own thread and fails the test if it takes longer than `seconds`.
-fn within<T: Send + 'static>(seconds: u64, f: impl FnOnce() -> T + Send + 'static) -> T {
-    let (send, receive) = mpsc::channel();
-    std::thread::spawn(move || {
-        let _ = send.send(f());
-    });
-    receive
-        .recv_timeout(Duration::from_secs(seconds))
-        .unwrap_or_else(|_| panic!("did not finish within {seconds} s"))
-}
+mod common;
+use common::within;
 
 fn import_text(text: &str, opts: &ImportOptions) -> Result<ImportReport, ImportError> {
     import(text.as_bytes(), "hostile.csv", opts)
