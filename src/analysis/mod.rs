@@ -48,6 +48,7 @@ mod load;
 mod migrate;
 mod validate;
 
+pub use crate::bands::model_of;
 pub use document::{
     BandCount, BandSetup, Choice, Display, Document, LigandFieldOptions, PageState, Project,
     Results, Sample, SampleData, SeriesSort, Source, View, SCHEMA,
@@ -299,28 +300,6 @@ pub fn refit(
         bic_per_band_count: None,
         reduced_chi2_per_band_count: None,
     })
-}
-
-/// The band model of a band fit: its fitted values as starting values, its
-/// baseline, no locks or ties (what the page puts in the Bands panel after an
-/// automatic deconvolution, for the user to edit).
-pub fn model_of(fit: &BandFit) -> BandModel {
-    BandModel {
-        bands: fit
-            .bands
-            .iter()
-            .map(|b| bands::BandSpec {
-                shape: b.shape,
-                centre: b.centre.value,
-                fwhm: b.fwhm.value,
-                height: b.height.value,
-                extra: b.extra.map(|e| e.value),
-                fixed: Vec::new(),
-            })
-            .collect(),
-        baseline: fit.baseline.model,
-        ties: Vec::new(),
-    }
 }
 
 fn fit_options(s: &Spectrum, setup: &BandSetup) -> FitOptions {
