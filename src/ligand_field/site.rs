@@ -236,14 +236,26 @@ fn hamiltonian(
     out
 }
 
-/// Eigenvalues ascending with matching eigenvector columns (Hermitian).
+/// Eigenvalues ascending with matching eigenvector columns (Hermitian). A
+/// matrix that is real (a field with real ⟨m|h|m′⟩: cubic, tetragonal; l·s is
+/// real in the |m, σ⟩ basis) takes the real symmetric solver, several times faster.
 fn eigen(m: DMatrix<Complex<f64>>) -> (Vec<f64>, DMatrix<Complex<f64>>) {
-    let eig = m.symmetric_eigen();
-    let mut order: Vec<usize> = (0..eig.eigenvalues.len()).collect();
-    order.sort_by(|&a, &b| eig.eigenvalues[a].total_cmp(&eig.eigenvalues[b]));
-    let values = order.iter().map(|&i| eig.eigenvalues[i]).collect();
-    let vectors = eig.eigenvectors.select_columns(&order);
-    (values, vectors)
+    let largest = m.iter().fold(0.0f64, |a, x| a.max(x.norm()));
+    let real = m.iter().all(|x| x.im.abs() <= 1e-14 * largest);
+    let (values, vectors) = if real {
+        let eig = m.map(|x| x.re).symmetric_eigen();
+        (
+            eig.eigenvalues,
+            eig.eigenvectors.map(|x| Complex::new(x, 0.0)),
+        )
+    } else {
+        let eig = m.symmetric_eigen();
+        (eig.eigenvalues, eig.eigenvectors)
+    };
+    let mut order: Vec<usize> = (0..values.len()).collect();
+    order.sort_by(|&a, &b| values[a].total_cmp(&values[b]));
+    let sorted = order.iter().map(|&i| values[i]).collect();
+    (sorted, vectors.select_columns(&order))
 }
 
 /// A labelled reference spectrum: each level's energy above its ground and label.
