@@ -309,7 +309,7 @@ fn free_ion_fine_structure_follows_the_lande_interval_rule() {
                 acc
             },
         );
-        by_j.sort_by(|a, b| a.0.cmp(&b.0));
+        by_j.sort_by_key(|a| a.0);
         let energy_of = |dim: usize| by_j.iter().find(|(d, _)| *d == dim).unwrap().1;
         let (e2, e3, e4) = (energy_of(5), energy_of(7), energy_of(9));
         assert!(

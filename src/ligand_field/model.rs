@@ -25,6 +25,7 @@ use super::determinants::{
 };
 use super::{Geometry, Level, Params};
 use nalgebra::DMatrix;
+use std::sync::Mutex;
 
 /// A cubic irreducible representation (O or Td).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -91,7 +92,12 @@ pub struct Block {
     /// Strong-field configuration names, and the index of each row's name.
     configurations: Vec<String>,
     configuration_of_row: Vec<usize>,
+    /// The names of the last parent sequence asked for (they change only when
+    /// C/B reorders the free-ion terms of the block).
+    names_cache: Mutex<Option<NamesCache>>,
 }
+
+type NamesCache = (Vec<char>, Vec<(String, String, String)>);
 
 /// K_B and K_C of one block restricted to one L² eigenspace.
 #[derive(Debug)]
@@ -134,6 +140,26 @@ impl Block {
         (irrep, label, typeset)
     }
 
+    /// The names of every level of the block (see [`Block::names`]), cached.
+    pub fn all_names(&self, geometry: Geometry, parents: &[char]) -> Vec<(String, String, String)> {
+        let make = || {
+            (0..parents.len())
+                .map(|k| self.names(geometry, parents, k))
+                .collect()
+        };
+        let Ok(mut cache) = self.names_cache.lock() else {
+            return make();
+        };
+        match cache.as_ref() {
+            Some((key, names)) if key == parents => names.clone(),
+            _ => {
+                let names: Vec<_> = make();
+                *cache = Some((parents.to_vec(), names.clone()));
+                names
+            }
+        }
+    }
+
     /// Number of levels (rows) of the block.
     pub fn size(&self) -> usize {
         self.v.nrows()
@@ -156,6 +182,9 @@ pub struct BlockState {
 
 /// Eigenvalues ascending with matching eigenvector columns.
 pub fn eigen_sorted(m: &DMatrix<f64>) -> (Vec<f64>, DMatrix<f64>) {
+    if m.nrows() == 1 {
+        return (vec![m[(0, 0)]], DMatrix::from_element(1, 1, 1.0));
+    }
     let eig = m.clone().symmetric_eigen();
     let mut order: Vec<usize> = (0..eig.eigenvalues.len()).collect();
     order.sort_by(|&a, &b| eig.eigenvalues[a].total_cmp(&eig.eigenvalues[b]));
@@ -326,6 +355,7 @@ impl Model {
                         terms,
                         configurations,
                         configuration_of_row,
+                        names_cache: Mutex::new(None),
                     });
                 }
             }
@@ -360,6 +390,9 @@ impl Model {
         self.blocks
             .iter()
             .map(|block| {
+                if block.size() == 1 {
+                    return vec![block.hamiltonian(p)[(0, 0)]];
+                }
                 let mut e: Vec<f64> = block
                     .hamiltonian(p)
                     .symmetric_eigenvalues()
@@ -382,12 +415,10 @@ impl Model {
         let mut raw = Vec::new();
         for block in &self.blocks {
             let parents = block.parents(p);
-            let eig = block.hamiltonian(p).symmetric_eigen();
-            let mut order: Vec<usize> = (0..eig.eigenvalues.len()).collect();
-            order.sort_by(|&a, &b| eig.eigenvalues[a].total_cmp(&eig.eigenvalues[b]));
+            let (values, vectors) = eigen_sorted(&block.hamiltonian(p));
             let mut shares = vec![0.0; block.configurations.len()];
-            for (k, &column) in order.iter().enumerate() {
-                let x = eig.eigenvectors.column(column);
+            let mut names = block.all_names(self.geometry, &parents).into_iter();
+            for (k, (x, &energy)) in vectors.column_iter().zip(&values).enumerate() {
                 shares.iter_mut().for_each(|w| *w = 0.0);
                 let mut d_dq = 0.0;
                 for (i, &xi) in x.iter().enumerate() {
@@ -399,9 +430,9 @@ impl Model {
                     .enumerate()
                     .max_by(|a, b| a.1.total_cmp(b.1))
                     .map_or((0, 0.0), |(i, &w)| (i, w));
-                let (irrep, label, typeset) = block.names(self.geometry, &parents, k);
+                let (irrep, label, typeset) = names.next().unwrap_or_default();
                 raw.push(Level {
-                    energy: eig.eigenvalues[column],
+                    energy,
                     multiplicity: block.multiplicity,
                     label,
                     typeset,
@@ -411,18 +442,18 @@ impl Model {
                     configuration: block.configurations.get(best).cloned().unwrap_or_default(),
                     weight,
                     d_dq,
-                    d_b: x.dot(&(&block.kb * x)),
-                    d_c: x.dot(&(&block.kc * x)),
+                    d_b: quadratic_form(&block.kb, x.as_slice()),
+                    d_c: quadratic_form(&block.kc, x.as_slice()),
                 });
             }
         }
         raw.sort_by(|a, b| a.energy.total_cmp(&b.energy));
-        if let Some(ground) = raw.first().cloned() {
+        if let Some(g) = raw.first().map(|l| [l.energy, l.d_dq, l.d_b, l.d_c]) {
             for level in &mut raw {
-                level.energy -= ground.energy;
-                level.d_dq -= ground.d_dq;
-                level.d_b -= ground.d_b;
-                level.d_c -= ground.d_c;
+                level.energy -= g[0];
+                level.d_dq -= g[1];
+                level.d_b -= g[2];
+                level.d_c -= g[3];
             }
         }
         raw
@@ -445,7 +476,13 @@ impl Block {
     pub fn parents(&self, p: &Params) -> Vec<char> {
         let mut free: Vec<(f64, char)> = Vec::with_capacity(self.size());
         for term in &self.terms {
-            let h = &term.kb * p.b + &term.kc * p.c;
+            if term.kb.nrows() == 1 {
+                free.push((term.kb[(0, 0)] * p.b + term.kc[(0, 0)] * p.c, term.letter));
+                continue;
+            }
+            let h = DMatrix::from_fn(term.kb.nrows(), term.kb.ncols(), |i, j| {
+                term.kb[(i, j)] * p.b + term.kc[(i, j)] * p.c
+            });
             free.extend(h.symmetric_eigenvalues().iter().map(|&e| (e, term.letter)));
         }
         free.sort_by(|a, b| a.0.total_cmp(&b.0));
@@ -474,6 +511,14 @@ impl Block {
             })
             .collect()
     }
+}
+
+/// xᵀ M x.
+fn quadratic_form(m: &DMatrix<f64>, x: &[f64]) -> f64 {
+    m.column_iter()
+        .zip(x)
+        .map(|(column, &xj)| xj * column.iter().zip(x).map(|(a, &xi)| a * xi).sum::<f64>())
+        .sum()
 }
 
 fn superscript(n: u8) -> String {
