@@ -5,16 +5,16 @@
 //! See DEVELOPERS.md for the code map and the invariants.
 
 pub mod bands;
-pub mod cli;
-pub mod compare;
 pub mod estimate;
+pub mod figures;
 pub mod ions;
 pub mod lf_fit;
 pub mod ligand_field;
 pub mod pipeline;
-pub mod plot;
 pub mod preprocess;
+pub mod solver;
 pub mod spectrum;
+pub mod stats;
 
 #[cfg(target_arch = "wasm32")]
 pub mod web;

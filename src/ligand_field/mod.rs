@@ -15,14 +15,12 @@
 mod angular;
 mod determinants;
 mod diagram;
-mod draw;
 pub mod field;
 mod model;
 mod site;
 
 pub use angular::{ck, wigner_3j};
 pub use diagram::{diagram, spin_change, Curve, Diagram};
-pub use draw::{draw_diagram, DiagramFrame, DiagramStyle};
 pub use field::{FieldMatrix, Ligand};
 pub use model::{Block, Irrep, Model};
 pub use site::{full_site_matrix, site_levels, Site, SiteLevel, MAX_ABS_ZETA};
@@ -125,8 +123,6 @@ pub enum LfError {
     UnknownGeometry(String),
     /// A diagram request (range, points or C/B) is out of range.
     Diagram(String),
-    /// The drawing backend failed (for example the output could not be written).
-    Drawing(String),
 }
 
 impl fmt::Display for LfError {
@@ -154,7 +150,6 @@ impl fmt::Display for LfError {
                 "unknown geometry '{g}': use octahedral (oh) or tetrahedral (td)"
             ),
             LfError::Diagram(message) => f.write_str(message),
-            LfError::Drawing(message) => write!(f, "the diagram could not be drawn: {message}"),
         }
     }
 }

@@ -2,8 +2,9 @@
 //! analysis, the assignment fit and the energy-level diagram.
 
 use super::{from_js, to_js};
-use crate::compare::{draw_series, series_svg, SeriesPoint};
-use crate::ligand_field::{self, draw_diagram, DiagramStyle, Geometry, Params};
+use crate::figures::diagram::{draw_diagram, DiagramStyle};
+use crate::figures::series::{draw_series, series_svg, SeriesPoint};
+use crate::ligand_field::{self, Geometry, Params};
 use crate::pipeline::{self, AnalysisOptions};
 use crate::spectrum::{Quantity, Spectrum, XUnit};
 use plotters::prelude::IntoDrawingArea;
@@ -140,7 +141,7 @@ pub fn level_diagram_svg(request: JsValue) -> Result<String, JsError> {
     Ok(out)
 }
 
-/// Δ and β across samples (`compare::draw_series`) on a canvas sized CSS × `scale`.
+/// Δ and β across samples (`figures::series::draw_series`) on a canvas sized CSS × `scale`.
 #[wasm_bindgen]
 pub fn draw_series_plot(
     canvas: HtmlCanvasElement,

@@ -8,7 +8,7 @@
 
 mod ligand;
 
-use crate::plot::spectrum::{self as spectrum_plot, SpectrumFigure};
+use crate::figures::spectrum::{self as spectrum_plot, SpectrumFigure};
 use plotters::prelude::IntoDrawingArea;
 use plotters_canvas::CanvasBackend;
 use serde::Serialize;
