@@ -240,6 +240,61 @@ pub fn axial_order(h: &FieldMatrix, scale: f64) -> i64 {
         .unwrap_or(1)
 }
 
+/// Reads ligands from CSV text with the header `x,y,z,e_sigma,e_pi` (any column
+/// order, an optional `e_pi_y`; blank lines and `#` comments skipped), one
+/// ligand per row: its position relative to the metal and its eσ, eπ in cm⁻¹.
+pub fn parse_ligands(text: &str) -> Result<Vec<Ligand>, LfError> {
+    let mut lines = text
+        .lines()
+        .enumerate()
+        .map(|(i, l)| (i + 1, l.trim()))
+        .filter(|(_, l)| !l.is_empty() && !l.starts_with('#'));
+    let (_, header) = lines
+        .next()
+        .ok_or_else(|| LfError::Ligands("the ligand file is empty".into()))?;
+    let names: Vec<String> = header
+        .split(',')
+        .map(|h| h.trim().to_ascii_lowercase())
+        .collect();
+    let column = |name: &str| names.iter().position(|h| h == name);
+    let required: Vec<usize> = ["x", "y", "z", "e_sigma", "e_pi"]
+        .iter()
+        .map(|name| column(name))
+        .collect::<Option<_>>()
+        .ok_or_else(|| {
+            LfError::Ligands("the header must name the columns x,y,z,e_sigma,e_pi".into())
+        })?;
+    let pi_y = column("e_pi_y");
+    let mut ligands = Vec::new();
+    for (number, line) in lines {
+        let cells: Vec<&str> = line.split(',').map(str::trim).collect();
+        let value = |k: usize| -> Result<f64, LfError> {
+            cells
+                .get(k)
+                .and_then(|c| c.parse::<f64>().ok())
+                .filter(|v| v.is_finite())
+                .ok_or_else(|| {
+                    LfError::Ligands(format!(
+                        "line {number} needs a finite number in column '{}'",
+                        names[k]
+                    ))
+                })
+        };
+        ligands.push(Ligand {
+            x: value(required[0])?,
+            y: value(required[1])?,
+            z: value(required[2])?,
+            e_sigma: value(required[3])?,
+            e_pi: value(required[4])?,
+            e_pi_y: match pi_y {
+                Some(k) if cells.get(k).is_some_and(|c| !c.is_empty()) => Some(value(k)?),
+                _ => None,
+            },
+        });
+    }
+    Ok(ligands)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -265,5 +320,19 @@ mod tests {
             .iter()
             .all(|x| x.im.abs() < 1e-12));
         assert_eq!(axial_order(&octahedral_unit(), 1.0), 4);
+    }
+
+    #[test]
+    fn a_ligand_file_is_read_by_its_header_names() {
+        let text = "# square\ne_pi,x,y,z,e_sigma\n500,2,0,0,5000\n\n500,0,2,0,5000\n";
+        let ligands = parse_ligands(text).unwrap();
+        assert_eq!(ligands.len(), 2);
+        assert_eq!(
+            (ligands[1].y, ligands[1].e_sigma, ligands[1].e_pi),
+            (2.0, 5000.0, 500.0)
+        );
+        assert!(parse_ligands("x,y,z\n1,2,3\n").is_err());
+        let error = parse_ligands("x,y,z,e_sigma,e_pi\n1,0,0,nan,0\n").unwrap_err();
+        assert!(error.to_string().contains("line 2"), "{error}");
     }
 }
