@@ -4,6 +4,7 @@
 //! imports wasm-bindgen, web-sys or js-sys, and runs under `cargo test`.
 //! See DEVELOPERS.md for the code map and the invariants.
 
+pub mod analysis;
 pub mod bands;
 pub mod cli;
 pub mod compare;
@@ -11,7 +12,6 @@ pub mod estimate;
 pub mod ions;
 pub mod lf_fit;
 pub mod ligand_field;
-pub mod pipeline;
 pub mod plot;
 pub mod preprocess;
 pub mod spectrum;

@@ -2,7 +2,7 @@
 //! the whole pipeline (the same function the browser calls).
 
 use super::{Args, CliError};
-use crate::pipeline::{self, AnalysisOptions};
+use crate::analysis::{self, AnalysisOptions};
 use crate::spectrum::XUnit;
 
 const HELP: &str = "\
@@ -89,7 +89,7 @@ pub fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
     args.finish()?;
     let bytes =
         std::fs::read(&file).map_err(|e| CliError::Failed(format!("cannot read {file}: {e}")))?;
-    let analysis = pipeline::analyze_file(&bytes, &file, &opts)
+    let analysis = analysis::analyze_file(&bytes, &file, &opts)
         .map_err(|e| CliError::Failed(format!("{file}: {e}")))?;
     if json {
         return super::print_json(&analysis);

@@ -2,8 +2,8 @@
 //! [--range LO:HI] [--epsilon] [--max-iterations N]`: resolves overlapping bands.
 
 use super::{Args, CliError};
+use crate::analysis::{self, AnalysisError, AnalysisOptions};
 use crate::bands::Shape;
-use crate::pipeline::{self, AnalysisError, AnalysisOptions};
 use crate::spectrum::Quantity;
 
 const HELP: &str = "\
@@ -67,8 +67,8 @@ pub fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
         opts.import.y_quantity = Some(Quantity::MolarAbsorptivity);
     }
     let fail = |e: AnalysisError| CliError::Failed(format!("{file}: {e}"));
-    let spectrum = pipeline::pick_spectrum(&bytes, &file, &opts).map_err(fail)?;
-    let result = pipeline::deconvolve(&spectrum, &opts, &mut |_| true).map_err(fail)?;
+    let spectrum = analysis::pick_spectrum(&bytes, &file, &opts).map_err(fail)?;
+    let result = analysis::deconvolve(&spectrum, &opts, &mut |_| true).map_err(fail)?;
     if json {
         return super::print_json(&result);
     }

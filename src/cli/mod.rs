@@ -131,8 +131,8 @@ pub(crate) fn baseline_option(
 }
 
 /// Reads `--bands N|auto` (default auto: chosen by BIC among 1…6).
-pub(crate) fn band_count_option(args: &mut Args) -> Result<crate::pipeline::BandCount, CliError> {
-    use crate::pipeline::BandCount;
+pub(crate) fn band_count_option(args: &mut Args) -> Result<crate::analysis::BandCount, CliError> {
+    use crate::analysis::BandCount;
     match args.value("--bands")?.as_deref() {
         None | Some("auto") => Ok(BandCount::Auto(6)),
         Some(text) => text

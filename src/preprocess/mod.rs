@@ -6,16 +6,19 @@
 //! - [`point_weights`] gives each point its share of the axis (trapezoid rule),
 //!   so a grid even in wavelength does not over-weight the near infrared in a fit;
 //! - [`baseline`] estimates a baseline by one of [`BaselineMethod`];
-//! - [`savgol`]/[`savgol_coeffs`]: Savitzky–Golay smoothing and derivatives.
+//! - [`savgol`]/[`savgol_coeffs`]: Savitzky–Golay smoothing and derivatives;
+//! - [`Step`] and [`apply_steps`]: the cleaning steps of an analysis document.
 
 mod baselines;
 mod savgol;
+mod steps;
 mod whittaker;
 
 use crate::spectrum::Spectrum;
 use serde::{Deserialize, Serialize};
 
 pub use savgol::{savgol, savgol_coeffs};
+pub use steps::{apply_steps, Step};
 pub use whittaker::{whittaker_smooth, REFERENCE_POINTS};
 
 /// Why a preprocessing step could not run.

@@ -2,9 +2,9 @@
 //! analysis, the assignment fit and the energy-level diagram.
 
 use super::{from_js, to_js};
+use crate::analysis::{self, AnalysisOptions};
 use crate::compare::{draw_series, series_svg, SeriesPoint};
 use crate::ligand_field::{self, draw_diagram, DiagramStyle, Geometry, Params};
-use crate::pipeline::{self, AnalysisOptions};
 use crate::spectrum::{Quantity, Spectrum, XUnit};
 use plotters::prelude::IntoDrawingArea;
 use plotters_canvas::CanvasBackend;
@@ -63,7 +63,7 @@ pub fn analyze(spectrum: JsValue, options: JsValue) -> Result<JsValue, JsError> 
         metadata: Default::default(),
         warnings: Vec::new(),
     };
-    to_js(&pipeline::analyze_spectrum(&spectrum, &opts, &mut |_| {
+    to_js(&analysis::analyze_spectrum(&spectrum, &opts, &mut |_| {
         true
     })?)
 }

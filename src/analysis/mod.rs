@@ -37,14 +37,14 @@ use crate::spectrum::{self, ImportOptions, Quantity, Spectrum, Warning, XUnit};
 use serde::{Deserialize, Serialize};
 use std::fmt;
 
-/// How many bands to fit.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
-#[serde(rename_all = "lowercase")]
-pub enum BandCount {
-    /// Chosen by BIC among 1…max.
-    Auto(usize),
-    Fixed(usize),
-}
+pub mod document;
+mod load;
+
+pub use document::{
+    BandCount, BandSetup, Choice, Display, Document, LigandFieldOptions, PageState, Project,
+    Results, Sample, SampleData, SeriesSort, Source, View, SCHEMA,
+};
+pub use load::DocumentError;
 
 /// Every choice of an analysis.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -412,6 +412,87 @@ pub fn apply_choices(observed: &mut [ObservedBand], choices: &[ObservedBand]) ->
     warnings
 }
 
+/// The ligand-field half of an analysis: the band maxima handed to the fit
+/// (with the user's choices applied), the fit or why there is none, and warnings.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Assignment {
+    pub observed: Vec<ObservedBand>,
+    pub fit: Option<FitOutcome>,
+    pub fit_error: Option<String>,
+    pub warnings: Vec<String>,
+}
+
+/// Assigns the bands of a band fit and fits the ligand field to them.
+///
+/// When the bands outnumber what the model can take, the highest unforced
+/// band is set aside as not d–d, one at a time; when every remaining band is
+/// forced (or only one is left), the search stops with the fit's error.
+pub fn assign(
+    bands: &Deconvolution,
+    s: &Spectrum,
+    range: Option<[f64; 2]>,
+    lf: &FitRequest,
+) -> Assignment {
+    let mut observed = observed_bands(&bands.fit, s.quantity);
+    let mut warnings = apply_choices(&mut observed, &lf.bands);
+    let narrow = observed
+        .iter()
+        .any(|b| b.fwhm.is_some_and(|w| w < NARROW_BAND));
+    if narrow && !lf.spin_forbidden {
+        warnings.push(format!("a band narrower than {NARROW_BAND:.0} cm⁻¹ was found: spin-forbidden transitions were considered too"));
+    }
+    let mut req = FitRequest {
+        bands: observed,
+        spin_forbidden: lf.spin_forbidden || narrow,
+        observed_from: s
+            .wavenumber
+            .first()
+            .copied()
+            .map(|lo| range.map_or(lo, |r| lo.max(r[0]))),
+        ..lf.clone()
+    };
+    let (mut fit, mut fit_error) = (None, None);
+    loop {
+        match lf_fit::fit(&req) {
+            Ok(o) => {
+                fit = Some(o);
+                break;
+            }
+            Err(LfFitError::NoCandidates(m))
+                if req.bands.iter().filter(|b| !b.not_dd).count() > 1 =>
+            {
+                if let Some(top) = req
+                    .bands
+                    .iter_mut()
+                    .filter(|b| !b.not_dd && b.assign.is_none())
+                    .max_by(|a, b| a.energy.total_cmp(&b.energy))
+                {
+                    top.not_dd = true;
+                    warnings.push(format!(
+                        "the band at {:.0} cm⁻¹ was set aside as not d–d ({m})",
+                        top.energy
+                    ));
+                } else {
+                    fit_error = Some(format!(
+                        "{m}; every band left has a forced state, so none can be set aside — change or remove a forced state"
+                    ));
+                    break;
+                }
+            }
+            Err(e) => {
+                fit_error = Some(e.to_string());
+                break;
+            }
+        }
+    }
+    Assignment {
+        observed: req.bands,
+        fit,
+        fit_error,
+        warnings,
+    }
+}
+
 /// Runs the analysis on a spectrum already imported (the browser's entry point).
 pub fn analyze_spectrum(
     s: &Spectrum,
@@ -419,64 +500,22 @@ pub fn analyze_spectrum(
     progress: &mut dyn FnMut(bands::lm::Progress) -> bool,
 ) -> Result<Analysis, AnalysisError> {
     let bands = deconvolve(s, opts, progress)?;
-    let mut observed = observed_bands(&bands.fit, s.quantity);
-    let mut warnings = Vec::new();
-    let (mut fit, mut fit_error) = (None, None);
-    if let Some(lf) = &opts.ligand_field {
-        warnings.extend(apply_choices(&mut observed, &lf.bands));
-        let narrow = observed
-            .iter()
-            .any(|b| b.fwhm.is_some_and(|w| w < NARROW_BAND));
-        if narrow && !lf.spin_forbidden {
-            warnings.push(format!("a band narrower than {NARROW_BAND:.0} cm⁻¹ was found: spin-forbidden transitions were considered too"));
-        }
-        let mut req = FitRequest {
-            bands: observed.clone(),
-            spin_forbidden: lf.spin_forbidden || narrow,
-            observed_from: s
-                .wavenumber
-                .first()
-                .copied()
-                .map(|lo| opts.range.map_or(lo, |r| lo.max(r[0]))),
-            ..lf.clone()
-        };
-        loop {
-            match lf_fit::fit(&req) {
-                Ok(o) => {
-                    fit = Some(o);
-                    break;
-                }
-                Err(LfFitError::NoCandidates(m))
-                    if req.bands.iter().filter(|b| !b.not_dd).count() > 1 =>
-                {
-                    if let Some(top) = req
-                        .bands
-                        .iter_mut()
-                        .filter(|b| !b.not_dd && b.assign.is_none())
-                        .max_by(|a, b| a.energy.total_cmp(&b.energy))
-                    {
-                        top.not_dd = true;
-                        warnings.push(format!(
-                            "the band at {:.0} cm⁻¹ was set aside as not d–d ({m})",
-                            top.energy
-                        ));
-                    }
-                }
-                Err(e) => {
-                    fit_error = Some(e.to_string());
-                    break;
-                }
-            }
-        }
-        observed = req.bands;
-    }
+    let a = match &opts.ligand_field {
+        Some(lf) => assign(&bands, s, opts.range, lf),
+        None => Assignment {
+            observed: observed_bands(&bands.fit, s.quantity),
+            fit: None,
+            fit_error: None,
+            warnings: Vec::new(),
+        },
+    };
     Ok(Analysis {
         import: ImportSummary::of(s),
         bands,
-        observed,
-        fit,
-        fit_error,
-        warnings,
+        observed: a.observed,
+        fit: a.fit,
+        fit_error: a.fit_error,
+        warnings: a.warnings,
         version: crate::VERSION.to_string(),
     })
 }
