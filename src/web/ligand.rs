@@ -1,11 +1,9 @@
-//! Facade for the ligand-field side: ions, levels, the whole-pipeline
-//! analysis, the assignment fit and the energy-level diagram.
+//! Facade for the ligand-field side: ions, levels, the assignment fit and
+//! the energy-level diagram (the whole analysis is `analyze_document`).
 
 use super::{from_js, to_js};
-use crate::analysis::{self, AnalysisOptions};
 use crate::compare::{draw_series, series_svg, SeriesPoint};
 use crate::ligand_field::{self, draw_diagram, DiagramStyle, Geometry, Params};
-use crate::spectrum::{Quantity, Spectrum, XUnit};
 use plotters::prelude::IntoDrawingArea;
 use plotters_canvas::CanvasBackend;
 use serde::Deserialize;
@@ -34,38 +32,6 @@ pub fn ligands() -> Result<JsValue, JsError> {
 pub fn levels(n: u8, geometry_name: &str, dq: f64, b: f64, c: f64) -> Result<JsValue, JsError> {
     let m = ligand_field::model(n, geometry(geometry_name)?)?;
     to_js(&m.levels(&Params { dq, b, c })?)
-}
-
-/// A spectrum as the page holds it (after its own cleaning steps).
-#[derive(Deserialize)]
-struct SpectrumIn {
-    name: String,
-    wavenumber: Vec<f64>,
-    values: Vec<f64>,
-    #[serde(default)]
-    quantity: Option<Quantity>,
-    #[serde(default)]
-    saturated: Vec<[f64; 2]>,
-}
-
-/// The whole analysis of one spectrum (the same function as `ddlens analyze`).
-#[wasm_bindgen]
-pub fn analyze(spectrum: JsValue, options: JsValue) -> Result<JsValue, JsError> {
-    let s: SpectrumIn = from_js(spectrum, "the spectrum")?;
-    let opts: AnalysisOptions = from_js(options, "the analysis options")?;
-    let spectrum = Spectrum {
-        name: s.name,
-        wavenumber: s.wavenumber,
-        values: s.values,
-        quantity: s.quantity.unwrap_or(Quantity::Absorbance),
-        x_unit_read: XUnit::Wavenumber,
-        saturated: s.saturated,
-        metadata: Default::default(),
-        warnings: Vec::new(),
-    };
-    to_js(&analysis::analyze_spectrum(&spectrum, &opts, &mut |_| {
-        true
-    })?)
 }
 
 /// The assignment search and fit for given band maxima (after the user edits the assignment).

@@ -39,6 +39,12 @@ function baselineMethod() {
   return m ? m : null; // 'rubber_band' is a unit variant
 }
 
+/** Fills the cleaning inputs with the engine's defaults (Savitzky–Golay window and order, the baselines' parameters). */
+function setCleaningDefaults() {
+  const c = DEFAULTS.cleaning;
+  for (const [id, v] of [['smooth-window', c.smooth_window], ['smooth-order', c.smooth_order], ['baseline-order', c.polynomial_order], ['baseline-lambda', c.lambda], ['baseline-p', c.asls_p]]) $(id).value = v;
+}
+
 /** Shows only the inputs of the chosen method. */
 function showBaselineInputs() {
   const m = $('baseline-method').value;

@@ -36,7 +36,7 @@ function projectText() {
     saved: new Date().toISOString(),
     samples: state.samples.map(savedDoc),
     active: active >= 0 ? active : null,
-    page: { view: state.view, series_sort: state.lfSort },
+    page: { view: { x: state.view.x, y: state.view.y, nm_bottom: state.view.nmBottom, y_mode: state.view.yMode }, series_sort: state.lfSort },
   });
 }
 
@@ -45,7 +45,7 @@ function sampleFromDoc(doc) {
   const s = new Sample(doc);
   if (!doc.sample.display.colour) withDoc(s, (d) => { d.sample.display.colour = DEFAULTS.palette[state.nextColour++ % DEFAULTS.palette.length]; });
   withCleaned(s);
-  const fresh = doc.results && doc.program === wasm_bindgen.version();
+  const fresh = doc.results && doc.program.endsWith(wasm_bindgen.version());
   if (fresh) {
     takeBandFit(s, doc.results, doc.bands.model);
     if (doc.ligand_field) s.lf = lfRecord(s, doc, s.model);
@@ -62,14 +62,15 @@ async function loadProject(text) {
   const { project, notices } = wasm_bindgen.project_from_json(text);
   const samples = project.samples.map(sampleFromDoc);
   edit(() => { state.samples = samples; });
-  for (const n of notices || []) say(String(n.message || n), 'info');
-  const page = project.page || {};
-  if (page.view) Object.assign(state.view, page.view);
-  if (page.series_sort) state.lfSort = page.series_sort;
+  for (const n of notices || []) say(String(n), 'info');
+  const { view, series_sort: sort } = project.page;
+  Object.assign(state.view, { x: view.x, y: view.y, nmBottom: view.nm_bottom, yMode: view.y_mode });
+  state.lfSort = sort;
   // A document with ligand-field options but no results (or results of another version) is analysed again.
   for (const s of state.samples) {
     if (!s.doc.ligand_field || s.lf) continue;
-    try { takeAnalysis(s, await analyse(s, controlsOf(s.doc), s.choices)); } catch (e) { jobFailed(s, 'analysis', e); }
+    const doc = copyDoc(s.doc, (d) => { d.bands = { ...d.bands, model: modelForDoc(s) }; d.results = null; });
+    try { takeAnalysis(s, await runDocument(`Analysing ${s.name}…`, doc)); } catch (e) { jobFailed(s, 'analysis', e); }
   }
   refresh();
   const active = state.samples[project.active];
