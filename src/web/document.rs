@@ -86,21 +86,24 @@ struct Loaded {
 }
 
 /// Reads a project file, autosave or share link (`Project::from_json`):
-/// validated completely, wave-1 files migrated with notices. Errors are the
-/// core's sentence naming the field.
+/// validated completely, wave-1 files migrated with notices. Returns the JSON
+/// text of `{project, notices}` (the page parses it natively, far faster than
+/// a value-by-value conversion of the spectra). Errors are the core's
+/// sentence naming the field.
 #[wasm_bindgen]
-pub fn project_from_json(text: &str) -> Result<JsValue, JsError> {
+pub fn project_from_json(text: &str) -> Result<String, JsError> {
     let (project, notices) =
         document::Project::from_json(text).map_err(|e| JsError::new(&e.to_string()))?;
-    to_js(&Loaded { project, notices })
+    serde_json::to_string(&Loaded { project, notices }).map_err(|e| JsError::new(&e.to_string()))
 }
 
-/// Writes the page's workspace as project JSON (`Project::to_json`); the
-/// schema version and the program are filled in by the core when the page
-/// leaves them out.
+/// Writes the page's workspace (JSON text of a project, as `JSON.stringify`
+/// gives it) as a project file (`Project::to_json`); the schema version and
+/// the program are filled in by the core when the page leaves them out.
 #[wasm_bindgen]
-pub fn project_to_json(project: JsValue) -> Result<String, JsError> {
-    let mut value: serde_json::Value = from_js(project, "the project")?;
+pub fn project_to_json(text: &str) -> Result<String, JsError> {
+    let mut value: serde_json::Value = serde_json::from_str(text)
+        .map_err(|e| JsError::new(&format!("the project is malformed: {e}")))?;
     if let Some(map) = value.as_object_mut() {
         map.entry("ddlens_project")
             .or_insert_with(|| document::SCHEMA.into());

@@ -32,12 +32,12 @@ function savedDoc(s) {
 /** The workspace as the core's `Project` JSON text. */
 function projectText() {
   const active = state.samples.findIndex((s) => s.id === Number($('clean-target').value));
-  return wasm_bindgen.project_to_json({
+  return wasm_bindgen.project_to_json(JSON.stringify({
     saved: new Date().toISOString(),
     samples: state.samples.map(savedDoc),
     active: active >= 0 ? active : null,
     page: { view: { x: state.view.x, y: state.view.y, nm_bottom: state.view.nmBottom, y_mode: state.view.yMode }, series_sort: state.lfSort },
-  });
+  }));
 }
 
 /** A page sample from a loaded document: its cleaned spectrum, and its band fit and analysis when it carries results. */
@@ -59,7 +59,7 @@ function sampleFromDoc(doc) {
 /** Replaces the workspace with a project (JSON text). The core validates it
  *  completely first: on any error (a sentence naming the field) nothing is loaded. */
 async function loadProject(text) {
-  const { project, notices } = wasm_bindgen.project_from_json(text);
+  const { project, notices } = JSON.parse(wasm_bindgen.project_from_json(text));
   const samples = project.samples.map(sampleFromDoc);
   edit(() => { state.samples = samples; });
   for (const n of notices || []) say(String(n), 'info');
@@ -82,7 +82,9 @@ let autosaveWarned = false;
 function autosaveSoon() {
   clearTimeout(autosaveTimer);
   autosaveTimer = setTimeout(() => {
-    try { localStorage.setItem(AUTOSAVE_KEY, projectText()); } catch (e) {
+    let text;
+    try { text = projectText(); } catch (e) { say(`The workspace could not be kept: ${e.message || e}`); return; }
+    try { localStorage.setItem(AUTOSAVE_KEY, text); } catch (e) {
       if (!autosaveWarned) say('This browser refused to keep the workspace (storage full or disabled): save the project file to keep your work.');
       autosaveWarned = true;
     }
