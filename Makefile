@@ -26,8 +26,8 @@ reference-checks:
 browser-tests:
 	node --test --test-concurrency=1 tests/browser/
 
-bench:
-	bash scripts/bench.sh
+bench:  # BASE=REV compares with commit REV in the same run
+	BASE=$(BASE) bash scripts/bench.sh
 
 clean:
 	rm -rf dist tests/browser/output

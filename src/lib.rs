@@ -6,13 +6,11 @@
 
 pub mod analysis;
 pub mod bands;
-pub mod cli;
-pub mod compare;
 pub mod estimate;
+pub mod figures;
 pub mod ions;
 pub mod lf_fit;
 pub mod ligand_field;
-pub mod plot;
 pub mod preprocess;
 pub mod spectrum;
 

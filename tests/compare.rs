@@ -1,8 +1,9 @@
 //! The series figure (Δ and β across samples): every sample appears, the
 //! points keep the given order, and an empty series is a typed error.
 
-use ddlens::compare::{series_svg, SeriesError, SeriesPoint};
 use ddlens::estimate::Estimate;
+use ddlens::figures::series::{series_svg, SeriesPoint};
+use ddlens::figures::FigureError;
 
 fn point(name: &str, delta: f64, beta: Option<f64>) -> SeriesPoint {
     SeriesPoint {
@@ -50,10 +51,13 @@ fn series_figure_draws_every_sample_in_order() {
 
 #[test]
 fn an_empty_or_non_finite_series_is_an_error() {
-    assert_eq!(series_svg(&[], 800, 600), Err(SeriesError::Empty));
+    assert_eq!(
+        series_svg(&[], 800, 600),
+        Err(FigureError::NothingToCompare)
+    );
     assert_eq!(
         series_svg(&[point("x", f64::NAN, None)], 800, 600),
-        Err(SeriesError::Empty)
+        Err(FigureError::NothingToCompare)
     );
     // A single sample and one without β draw without failing.
     assert!(series_svg(&[point("only", 9000.0, None)], 800, 600).is_ok());

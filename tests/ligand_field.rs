@@ -387,7 +387,7 @@ fn labels_are_unique() {
 /// (Okabe–Ito vermillion, src/ligand_field/draw.rs) lies where the frame says.
 #[test]
 fn diagram_frame_maps_delta_over_b_to_pixels() {
-    use ddlens::ligand_field::{draw_diagram, DiagramStyle};
+    use ddlens::figures::diagram::{draw_diagram, DiagramStyle};
     use plotters::prelude::{IntoDrawingArea, SVGBackend};
     let d = diagram(3, Geometry::Octahedral, 4.5, 40.0, 50).unwrap();
     let style = DiagramStyle {

@@ -14,7 +14,7 @@
 //! spectra, forced states against the ion) and migrates the page's first
 //! project format (schema 1) with a notice; [`Project::to_json`] writes it.
 
-use super::{Deconvolution, ImportSummary};
+use super::{AnalysisError, Deconvolution, ImportSummary};
 use crate::bands::{BandModel, BaselineModel, Shape};
 use crate::lf_fit::{FitOutcome, FitRequest, ObservedBand};
 use crate::ligand_field::Geometry;
@@ -117,6 +117,49 @@ pub struct Document {
     /// What loading or migrating the document changed or ignored.
     #[serde(default)]
     pub notices: Vec<String>,
+}
+
+impl Document {
+    /// A document for spectrum `source.spectrum` of a file, with its data,
+    /// no cleaning steps and no ligand-field options; the import's warnings
+    /// become its notices.
+    pub fn import(
+        bytes: &[u8],
+        file_name: &str,
+        source: Source,
+        bands: BandSetup,
+    ) -> Result<Document, AnalysisError> {
+        let s = super::pick_spectrum(bytes, file_name, &source)?;
+        let base = file_name.rsplit(['/', '\\']).next().unwrap_or(file_name);
+        let notices = s
+            .warnings
+            .iter()
+            .map(|w| match w.line {
+                Some(l) => format!("line {l}: {}", w.message),
+                None => w.message.clone(),
+            })
+            .collect();
+        Ok(Document {
+            sample: Sample {
+                name: s.name.clone(),
+                concentration: source.import.concentration_mol_l,
+                path_length: source.import.path_length_cm,
+                source: Source {
+                    file_name: Some(base.to_string()),
+                    ..source
+                },
+                metadata: s.metadata.clone(),
+                display: Display::default(),
+                data: Some(SampleData::of(&s)),
+            },
+            steps: Vec::new(),
+            bands,
+            ligand_field: None,
+            results: None,
+            program: String::new(),
+            notices,
+        })
+    }
 }
 
 /// The sample: its name, its source and its imported data.
@@ -286,6 +329,34 @@ pub struct LigandFieldOptions {
     /// Per-band choices.
     #[serde(default)]
     pub choices: Vec<Choice>,
+}
+
+impl From<FitRequest> for LigandFieldOptions {
+    /// The options of a fit request; its bands become the choices (those
+    /// with neither a forced state nor "not d–d" are dropped).
+    fn from(r: FitRequest) -> Self {
+        LigandFieldOptions {
+            ion: r.ion,
+            n: r.n,
+            geometry: r.geometry,
+            c_over_b: r.c_over_b,
+            free_c: r.free_c,
+            spin_forbidden: r.spin_forbidden,
+            b0_source: r.b0_source,
+            ligand: r.ligand,
+            max_prediction: r.max_prediction,
+            choices: r
+                .bands
+                .into_iter()
+                .filter(|b| b.not_dd || b.assign.is_some())
+                .map(|b| Choice {
+                    energy: b.energy,
+                    assign: b.assign,
+                    not_dd: b.not_dd,
+                })
+                .collect(),
+        }
+    }
 }
 
 impl LigandFieldOptions {

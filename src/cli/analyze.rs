@@ -1,107 +1,165 @@
-//! `ddlens analyze FILE --ion Cr3+ --geometry octahedral [--bands N|auto] …`:
-//! the whole pipeline (the same function the browser calls).
+//! `ddlens analyze FILE --ion Cr3+ --geometry octahedral [--bands N|auto] …`
+//! or `ddlens analyze --project P.json`: the whole analysis of a document
+//! (`analysis::analyze`, the same function the browser calls).
 
-use super::{Args, CliError};
-use crate::analysis::{self, AnalysisOptions};
-use crate::spectrum::XUnit;
+use super::flags::{self, Flag};
+use super::{json_text, outln, CliError};
+use ddlens::analysis::{self, Document, Project, Source, SCHEMA};
 
-const HELP: &str = "\
+const HEADER: &str = "\
 ddlens analyze FILE [OPTIONS]
 
-Imports FILE, resolves its bands, assigns them and fits 10Dq, B (and C).
-
-OPTIONS:
-    --ion ION            the metal ion, e.g. Cr3+ or Ni(II) (gives dⁿ and B₀ for β)
-    --config dN          the configuration when no ion is given
-    --geometry G         octahedral (default) or tetrahedral
-    --bands N|auto       number of bands (default auto: chosen by BIC, up to 6)
-    --shape S            gaussian (default), lorentzian, pseudo-voigt, voigt, skew-gaussian
-    --baseline B         auto (default: linear or scattering, by BIC), none,
-                         constant, linear, polynomial:N, scattering, ct-tail
-    --range LO:HI        use only LO–HI cm⁻¹
-    --spectrum K         the K-th spectrum of the file (default 1)
-    --x-unit U           override the x unit: nm, um, cm-1, ev
-    --c-over-b G         hold C/B at G (default: the ion's free-ion C₀/B₀, else 4.5)
-    --free-c             fit C too (needs three or more bands)
-    --spin-forbidden     consider spin-forbidden transitions
-    --band E:STATE       fix the band found nearest E cm⁻¹ (within 3 %) to STATE (e.g. 23300:4T1g(P));
-                         `--band 23300:x` marks it as not d–d (repeatable)
-    --b0-source NAME     free-ion table for β: common or jolly
-    --ligand L           the ligand (e.g. H2O, NH3, Cl-) for Jørgensen's estimates
-    --json               machine-readable output
+Imports FILE, cleans it (--crop, --smooth, --subtract-baseline, in that order),
+resolves its bands, assigns them and fits 10Dq, B (and C). With --project P.json
+instead of FILE, recomputes every sample of a saved project with its own settings.
+The exit code is 1 when the ligand-field fit fails (the bands are still reported).
 ";
 
-pub fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
-    if args.flag("--help") || args.flag("-h") {
-        print!("{HELP}");
-        return Ok(());
+pub(super) const FLAGS: [&Flag; 22] = [
+    &flags::ION,
+    &flags::CONFIG,
+    &flags::GEOMETRY,
+    &flags::BANDS,
+    &flags::SHAPE,
+    &flags::BASELINE,
+    &flags::RANGE,
+    &flags::SPECTRUM,
+    &flags::X_UNIT,
+    &flags::C_OVER_B,
+    &flags::FREE_C,
+    &flags::SPIN_FORBIDDEN,
+    &flags::BAND_FIX,
+    &flags::B0_SOURCE,
+    &flags::LIGAND,
+    &flags::CROP,
+    &flags::SMOOTH,
+    &flags::SUBTRACT_BASELINE,
+    &flags::SAVE_PROJECT,
+    &flags::PROJECT,
+    &flags::JSON,
+    &flags::HELP,
+];
+
+pub fn run(words: &[String]) -> Result<String, CliError> {
+    let p = flags::parse(words, &FLAGS, "analyze")?;
+    if p.help {
+        return Ok(flags::help(HEADER, &FLAGS));
     }
-    let mut opts = AnalysisOptions {
-        ligand_field: Some(super::fit_request_options(args)?),
-        ..AnalysisOptions::default()
+    if let Some(path) = &p.project {
+        return recompute(&p, path);
+    }
+    let file = super::one_file(&p, "analyze")?;
+    let source = Source {
+        spectrum: p.spectrum.unwrap_or(0),
+        import: ddlens::spectrum::ImportOptions {
+            x_unit: p.x_unit,
+            ..Default::default()
+        },
+        ..Source::default()
     };
-    opts.bands = super::band_count_option(args)?;
-    if let Some(s) = args.value("--shape")? {
-        opts.shape = s.parse().map_err(CliError::Usage)?;
+    let bytes = super::read_input(&file)?;
+    let fail = |e: analysis::AnalysisError| {
+        CliError::Failed(format!("{}: {e}", super::args::shown(&file)))
+    };
+    let mut doc =
+        Document::import(&bytes, &file, source, super::band_fit_options(&p)).map_err(fail)?;
+    doc.steps = super::cleaning_steps(&p);
+    doc.ligand_field = Some(super::fit_request(&p)?.into());
+    let mut doc = analysis::analyze(&doc, &mut |_| true).map_err(fail)?;
+    if let Some(out) = &p.save_project {
+        save(&doc, out)?;
     }
-    opts.baseline = super::baseline_option(args)?;
-    if let Some(r) = args.value("--range")? {
-        let bad = || CliError::Usage(format!("--range: '{r}' should be LO:HI in cm⁻¹"));
-        let (a, b) = r.split_once(':').ok_or_else(bad)?;
-        let (lo, hi) = (
-            super::args::parse_number("--range", a)?,
-            super::args::parse_number("--range", b)?,
-        );
-        if lo >= hi {
-            return Err(bad());
+    if p.json {
+        doc.sample.data = None;
+        let text = json_text(&doc)?;
+        return match doc.results.as_ref().and_then(|r| r.fit_error.clone()) {
+            Some(e) => Err(CliError::FitFailed(text, e)),
+            None => Ok(text),
+        };
+    }
+    report(&doc)
+}
+
+/// Writes `doc` (with its data) as a one-sample project.
+fn save(doc: &Document, path: &str) -> Result<(), CliError> {
+    let project = Project {
+        ddlens_project: SCHEMA,
+        program: format!("ddlens {}", ddlens::VERSION),
+        saved: None,
+        samples: vec![doc.clone()],
+        active: Some(0),
+        page: Default::default(),
+    };
+    std::fs::write(path, project.to_json() + "\n")
+        .map_err(|e| CliError::Failed(format!("cannot write '{}': {e}", super::args::shown(path))))
+}
+
+/// `--project P.json`: every sample recomputed; the reports one after the
+/// other, or `--json`: the documents as a list.
+fn recompute(p: &flags::Parsed, path: &str) -> Result<String, CliError> {
+    if !p.positionals.is_empty() {
+        return Err(CliError::Usage(
+            "give either a spectrum FILE or --project P.json, not both".into(),
+        ));
+    }
+    let name = super::args::shown(path);
+    let bytes = super::read_input(path)?;
+    let text = String::from_utf8_lossy(&bytes);
+    let (project, notices) =
+        Project::from_json(&text).map_err(|e| CliError::Failed(format!("{name}: {e}")))?;
+    let mut docs = Vec::new();
+    for (i, d) in project.samples.iter().enumerate() {
+        let mut done = analysis::analyze(d, &mut |_| true).map_err(|e| {
+            CliError::Failed(format!("{name}: sample {} ({}): {e}", i + 1, d.sample.name))
+        })?;
+        if i == 0 {
+            done.notices.splice(0..0, notices.iter().cloned());
         }
-        opts.range = Some([lo, hi]);
+        docs.push(done);
     }
-    if let Some(k) = args.number("--spectrum")? {
-        if k < 1.0 || k.fract() != 0.0 {
-            return Err(CliError::Usage("--spectrum counts from 1".into()));
+    let failed = docs
+        .iter()
+        .filter_map(|d| d.results.as_ref()?.fit_error.clone())
+        .next()
+        .filter(|_| docs.iter().any(|d| d.ligand_field.is_some()));
+    let text = if p.json {
+        docs.iter_mut().for_each(|d| d.sample.data = None);
+        json_text(&docs)?
+    } else {
+        let mut out = String::new();
+        for d in &docs {
+            out.push_str(&report(d).unwrap_or_else(|e| match e {
+                CliError::FitFailed(text, _) => text,
+                other => other.to_string(),
+            }));
         }
-        opts.spectrum = k as usize - 1;
+        out
+    };
+    match failed {
+        Some(e) => Err(CliError::FitFailed(text, e)),
+        None => Ok(text),
     }
-    if let Some(u) = args.value("--x-unit")? {
-        opts.import.x_unit = Some(match u.to_ascii_lowercase().as_str() {
-            "nm" => XUnit::Nanometre,
-            "um" | "µm" | "micrometre" => XUnit::Micrometre,
-            "cm-1" | "1/cm" | "wavenumber" => XUnit::Wavenumber,
-            "ev" => XUnit::ElectronVolt,
-            _ => {
-                return Err(CliError::Usage(format!(
-                    "--x-unit: '{u}' is not nm, um, cm-1 or ev"
-                )))
-            }
-        });
-    }
-    if let Some(lf) = opts.ligand_field.as_mut() {
-        lf.bands = args
-            .values("--band")?
-            .iter()
-            .map(|b| super::fit::parse_band(b))
-            .collect::<Result<Vec<_>, _>>()?;
-    }
-    let file = args
-        .next_positional()
-        .ok_or_else(|| CliError::Usage("analyze needs a spectrum FILE".into()))?;
-    args.finish()?;
-    let bytes =
-        std::fs::read(&file).map_err(|e| CliError::Failed(format!("cannot read {file}: {e}")))?;
-    let analysis = analysis::analyze_file(&bytes, &file, &opts)
-        .map_err(|e| CliError::Failed(format!("{file}: {e}")))?;
-    if json {
-        return super::print_json(&analysis);
-    }
+}
+
+/// The text report of an analysed document.
+fn report(doc: &Document) -> Result<String, CliError> {
+    let Some(analysis) = &doc.results else {
+        return Ok(String::new());
+    };
+    let mut out = String::new();
     let i = &analysis.import;
-    println!(
+    outln!(
+        out,
         "{}: {} points, {:.0}–{:.0} cm⁻¹",
-        i.name, i.points, i.x_range_cm[0], i.x_range_cm[1]
+        i.name,
+        i.points,
+        i.x_range_cm[0],
+        i.x_range_cm[1]
     );
-    println!("bands ({}):", analysis.bands.fit.bands.len());
+    outln!(out, "bands ({}):", analysis.bands.fit.bands.len());
     for b in &analysis.bands.fit.bands {
-        println!(
+        outln!(
+            out,
             "    {:>18} cm⁻¹ ({:.1} nm)   FWHM {}   height {}",
             b.centre.to_string(),
             b.centre_nm.value,
@@ -109,13 +167,21 @@ pub fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
             b.height
         );
     }
-    for w in analysis.warnings.iter().chain(&analysis.bands.fit.warnings) {
-        println!("warning: {w}");
+    for w in doc
+        .notices
+        .iter()
+        .chain(&analysis.warnings)
+        .chain(&analysis.bands.fit.warnings)
+    {
+        outln!(out, "warning: {w}");
     }
     match (&analysis.fit, &analysis.fit_error) {
-        (Some(o), _) => super::fit::print_outcome(o),
-        (None, Some(e)) => println!("no ligand-field fit: {e}"),
+        (Some(o), _) => super::fit::print_outcome(&mut out, o),
+        (None, Some(e)) => {
+            outln!(out, "no ligand-field fit: {e}");
+            return Err(CliError::FitFailed(out, e.to_string()));
+        }
         (None, None) => {}
     }
-    Ok(())
+    Ok(out)
 }

@@ -1,5 +1,6 @@
-//! A small argument reader: `--name value`, `--name=value`, repeated options,
-//! boolean flags and positionals. Unknown options are reported, not ignored.
+//! The command line's error type and the helpers its messages share: numbers
+//! read from words, echoed words shortened, numbers shown in exponent form
+//! when huge or tiny.
 
 use std::fmt;
 
@@ -10,20 +11,23 @@ pub enum CliError {
     Usage(String),
     /// The input was read but refused, or a computation failed (exit code 1).
     Failed(String),
+    /// `analyze` ran but its ligand-field fit failed (exit code 1): the output
+    /// to print anyway, and the reason.
+    FitFailed(String, String),
 }
 
 impl CliError {
     pub fn kind(&self) -> &'static str {
         match self {
             CliError::Usage(_) => "usage",
-            CliError::Failed(_) => "failed",
+            CliError::Failed(_) | CliError::FitFailed(..) => "failed",
         }
     }
 
     pub fn exit_code(&self) -> i32 {
         match self {
             CliError::Usage(_) => 2,
-            CliError::Failed(_) => 1,
+            CliError::Failed(_) | CliError::FitFailed(..) => 1,
         }
     }
 }
@@ -32,101 +36,49 @@ impl fmt::Display for CliError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {
             CliError::Usage(m) | CliError::Failed(m) => f.write_str(m),
+            CliError::FitFailed(_, reason) => write!(f, "no ligand-field fit: {reason}"),
         }
     }
 }
 
 impl std::error::Error for CliError {}
 
-/// The remaining command-line words; options are taken out as they are read.
-#[derive(Debug)]
-pub struct Args {
-    words: Vec<String>,
-}
-
-impl Args {
-    pub fn new(words: Vec<String>) -> Self {
-        Args { words }
-    }
-
-    /// Removes a boolean flag; true if it was present.
-    pub fn flag(&mut self, name: &str) -> bool {
-        let before = self.words.len();
-        self.words.retain(|w| w != name);
-        self.words.len() != before
-    }
-
-    /// Removes every occurrence of `--name value` / `--name=value`, in order.
-    pub fn values(&mut self, name: &str) -> Result<Vec<String>, CliError> {
-        let mut out = Vec::new();
-        let mut i = 0;
-        let prefix = format!("{name}=");
-        while i < self.words.len() {
-            if self.words[i] == name {
-                if i + 1 >= self.words.len() {
-                    return Err(CliError::Usage(format!("{name} needs a value")));
-                }
-                out.push(self.words.remove(i + 1));
-                self.words.remove(i);
-            } else if let Some(v) = self.words[i].strip_prefix(&prefix) {
-                out.push(v.to_string());
-                self.words.remove(i);
-            } else {
-                i += 1;
-            }
-        }
-        Ok(out)
-    }
-
-    /// Removes one `--name value`; an error if given more than once.
-    pub fn value(&mut self, name: &str) -> Result<Option<String>, CliError> {
-        let mut all = self.values(name)?;
-        match all.len() {
-            0 => Ok(None),
-            1 => Ok(all.pop()),
-            _ => Err(CliError::Usage(format!("{name} given more than once"))),
-        }
-    }
-
-    /// A numeric option; the message names the option and what was found.
-    pub fn number(&mut self, name: &str) -> Result<Option<f64>, CliError> {
-        match self.value(name)? {
-            None => Ok(None),
-            Some(text) => parse_number(name, &text).map(Some),
-        }
-    }
-
-    /// A numeric option that must be present.
-    pub fn required_number(&mut self, name: &str) -> Result<f64, CliError> {
-        self.number(name)?
-            .ok_or_else(|| CliError::Usage(format!("{name} is required")))
-    }
-
-    /// Takes the next word that is not an option.
-    pub fn next_positional(&mut self) -> Option<String> {
-        let i = self
-            .words
-            .iter()
-            .position(|w| !w.starts_with("--") || w == "--")?;
-        Some(self.words.remove(i))
-    }
-
-    /// Fails if anything was left unread: a misspelt option must not be ignored.
-    pub fn finish(&self) -> Result<(), CliError> {
-        match self.words.first() {
-            None => Ok(()),
-            Some(w) => Err(CliError::Usage(format!("unexpected argument '{w}'"))),
-        }
-    }
-}
-
 /// Parses a number given on the command line; rejects NaN and infinities.
 pub fn parse_number(name: &str, text: &str) -> Result<f64, CliError> {
     match text.trim().parse::<f64>() {
         Ok(v) if v.is_finite() => Ok(v),
         _ => Err(CliError::Usage(format!(
-            "{name}: '{text}' is not a finite number"
+            "{name}: '{}' is not a finite number",
+            shown(text)
         ))),
+    }
+}
+
+/// The longest echo of a user's word in a message, in characters.
+pub const MAX_ECHO: usize = 60;
+
+/// A word as echoed in a message: at most [`MAX_ECHO`] characters, control characters replaced.
+pub fn shown(text: &str) -> String {
+    let clean: String = text
+        .chars()
+        .map(|c| if c.is_control() { '?' } else { c })
+        .collect();
+    if clean.chars().count() <= MAX_ECHO {
+        clean
+    } else {
+        let head: String = clean.chars().take(MAX_ECHO - 1).collect();
+        format!("{head}…")
+    }
+}
+
+/// A number as shown in a message: plain when moderate, exponent form when
+/// its magnitude is at least 1e6 or below 1e-3.
+pub fn num(v: f64) -> String {
+    let a = v.abs();
+    if v != 0.0 && v.is_finite() && !(1e-3..1e6).contains(&a) {
+        format!("{v:e}")
+    } else {
+        format!("{v}")
     }
 }
 
@@ -134,26 +86,29 @@ pub fn parse_number(name: &str, text: &str) -> Result<f64, CliError> {
 mod tests {
     use super::*;
 
-    fn args(s: &str) -> Args {
-        Args::new(s.split_whitespace().map(String::from).collect())
+    #[test]
+    fn a_long_word_is_echoed_shortened_to_sixty_characters() {
+        let long = "x".repeat(10_000);
+        let s = shown(&long);
+        assert_eq!(s.chars().count(), MAX_ECHO);
+        assert!(s.ends_with('…'));
+        assert_eq!(shown("short"), "short");
+        assert_eq!(shown("a\u{7}b"), "a?b");
     }
 
     #[test]
-    fn reads_values_flags_and_repeats() {
-        let mut a = args("fit --band 17400 --band=24600:200 --json --dq 5");
-        assert_eq!(a.next_positional().as_deref(), Some("fit"));
-        assert!(a.flag("--json"));
-        assert_eq!(a.values("--band").unwrap(), vec!["17400", "24600:200"]);
-        assert_eq!(a.number("--dq").unwrap(), Some(5.0));
-        assert!(a.finish().is_ok());
+    fn huge_and_tiny_numbers_are_shown_in_exponent_form() {
+        assert_eq!(num(1.7e308), "1.7e308");
+        assert_eq!(num(2.5e-9), "2.5e-9");
+        assert_eq!(num(17400.0), "17400");
+        assert_eq!(num(0.0), "0");
     }
 
     #[test]
-    fn rejects_leftovers_and_bad_numbers() {
-        let mut a = args("--dq nan --bogus");
-        assert!(a.number("--dq").is_err());
-        assert!(a.finish().is_err());
-        let mut b = args("--dq");
-        assert!(b.value("--dq").is_err());
+    fn a_non_finite_number_is_refused_with_its_option_named() {
+        let err = parse_number("--dq", "nan").unwrap_err().to_string();
+        assert!(err.starts_with("--dq:"), "{err}");
+        assert!(parse_number("--dq", "1e400").is_err());
+        assert_eq!(parse_number("--dq", " 5 ").unwrap(), 5.0);
     }
 }

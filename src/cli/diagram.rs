@@ -1,10 +1,13 @@
 //! `ddlens diagram`: E/B against Δ/B at fixed C/B as JSON, CSV or SVG.
 
-use super::{print_json, Args, CliError};
-use crate::ligand_field::{diagram, draw_diagram, parse_configuration, DiagramStyle};
+use super::args::num;
+use super::flags::{self, Flag};
+use super::{json_text, outln, CliError};
+use ddlens::figures::diagram::{draw_diagram, DiagramStyle};
+use ddlens::ligand_field::{diagram, Geometry};
 use plotters::prelude::{IntoDrawingArea, SVGBackend};
 
-const HELP: &str = "\
+const HEADER: &str = "\
 ddlens diagram — energy-level diagram of dⁿ (E/B against Δ/B, ground level at 0)
 
 USAGE:
@@ -12,29 +15,34 @@ USAGE:
                    [--svg FILE] [--csv FILE] [--json]
 ";
 
-pub fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
-    if args.flag("--help") {
-        print!("{HELP}");
-        return Ok(());
+pub(super) const FLAGS: [&Flag; 9] = [
+    &flags::CONFIG,
+    &flags::GEOMETRY,
+    &flags::C_OVER_B,
+    &flags::MAX,
+    &flags::POINTS,
+    &flags::SVG,
+    &flags::CSV,
+    &flags::JSON,
+    &flags::HELP,
+];
+
+pub fn run(words: &[String]) -> Result<String, CliError> {
+    let p = flags::parse(words, &FLAGS, "diagram")?;
+    if p.help {
+        return Ok(flags::help(HEADER, &FLAGS));
     }
-    let config = args
-        .value("--config")?
+    super::no_positionals(&p)?;
+    let n = p
+        .config
         .ok_or_else(|| CliError::Usage("--config is required (d1 … d9)".into()))?;
-    let geometry = super::geometry_option(args)?;
-    let c_over_b = args.number("--c-over-b")?.unwrap_or(4.5);
-    let max = args.number("--max")?.unwrap_or(40.0);
-    let points = args.number("--points")?.unwrap_or(400.0);
-    let svg = args.value("--svg")?;
-    let csv = args.value("--csv")?;
-    args.finish()?;
-    if points.fract() != 0.0 || points < 0.0 {
-        return Err(CliError::Usage(format!(
-            "--points: '{points}' is not a whole number"
-        )));
-    }
-    let n = parse_configuration(&config).map_err(|e| CliError::Usage(e.to_string()))?;
-    let d = diagram(n, geometry, c_over_b, max, points as usize)
-        .map_err(|e| CliError::Failed(e.to_string()))?;
+    let geometry = p.geometry.unwrap_or(Geometry::Octahedral);
+    let c_over_b = p.c_over_b.unwrap_or(4.5);
+    let max = p.max.unwrap_or(40.0);
+    let points = p.points.unwrap_or(400);
+    let (svg, csv) = (&p.svg, &p.csv);
+    let d =
+        diagram(n, geometry, c_over_b, max, points).map_err(|e| CliError::Failed(e.to_string()))?;
     if let Some(path) = &svg {
         let mut text = String::new();
         {
@@ -42,8 +50,9 @@ pub fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
             draw_diagram(&root, &d, &DiagramStyle::default())
                 .map_err(|e| CliError::Failed(e.to_string()))?;
         }
-        std::fs::write(path, text)
-            .map_err(|e| CliError::Failed(format!("could not write {path}: {e}")))?;
+        std::fs::write(path, text).map_err(|e| {
+            CliError::Failed(format!("could not write {}: {e}", super::args::shown(path)))
+        })?;
     }
     if let Some(path) = &csv {
         let mut text = String::from("delta_over_b");
@@ -64,20 +73,25 @@ pub fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
             }
             text.push('\n');
         }
-        std::fs::write(path, text)
-            .map_err(|e| CliError::Failed(format!("could not write {path}: {e}")))?;
+        std::fs::write(path, text).map_err(|e| {
+            CliError::Failed(format!("could not write {}: {e}", super::args::shown(path)))
+        })?;
     }
-    if json {
-        return print_json(&d);
+    if p.json {
+        return json_text(&d);
     }
-    println!(
-        "d{n} {geometry}, C/B = {c_over_b}: {} curves, {} points from Δ/B = 0 to {max}",
+    let mut out = String::new();
+    outln!(
+        out,
+        "d{n} {geometry}, C/B = {}: {} curves, {} points from Δ/B = 0 to {}",
+        num(c_over_b),
         d.curves.len(),
-        d.delta_over_b.len()
+        d.delta_over_b.len(),
+        num(max)
     );
     match d.spin_change {
-        Some(x) => println!("ground-state spin changes at Δ/B = {x:.2}"),
-        None => println!("no ground-state spin change up to Δ/B = 100"),
+        Some(x) => outln!(out, "ground-state spin changes at Δ/B = {x:.2}"),
+        None => outln!(out, "no ground-state spin change up to Δ/B = 100"),
     }
-    Ok(())
+    Ok(out)
 }

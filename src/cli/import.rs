@@ -1,105 +1,121 @@
 //! `ddlens import FILE`: reads a spectrum file and reports what was found.
 //!
 //! Options: `--x-unit nm|um|cm-1|eV`, `--y-quantity absorbance|transmittance|%T|epsilon|arbitrary`,
-//! `--air-to-vacuum`, `--concentration M`, `--path-length CM`, `--export-csv FILE`.
+//! `--air-to-vacuum`, `--concentration M`, `--path-length CM`, `--export-csv FILE`,
+//! and the cleaning steps `--crop LO-HI`, `--smooth savgol:W:O`, `--subtract-baseline METHOD`.
 //! Hidden options for the reference checks (tests/reference/):
 //! - `--raw`: print x and y in file units and file order, no conversion (JSON only);
 //! - `--savgol-coeffs W,O,D` (no FILE): the Savitzky–Golay coefficients for window W,
 //!   polynomial order O and derivative D, in correlation ("dot") order.
 
-use super::{print_json, Args, CliError};
-use crate::preprocess;
-use crate::spectrum::{self, ImportOptions, Spectrum, Warning};
+use super::flags::{self, Flag};
+use super::{json_text, outln, CliError};
+use ddlens::preprocess;
+use ddlens::spectrum::{self, ImportOptions, Spectrum, Warning};
 use serde::Serialize;
 use std::collections::BTreeMap;
 
-const HELP: &str = "\
+const HEADER: &str = "\
 ddlens import FILE — read a spectrum file (CSV/TXT, JCAMP-DX) and report what was found
 
-OPTIONS:
-    --x-unit UNIT          the file's x unit: nm, um, cm-1 or eV (default: from the file)
-    --y-quantity Q         absorbance, transmittance, %T, epsilon or arbitrary (default: from the file)
-    --air-to-vacuum        wavelengths were measured in air: correct them to vacuum (Ciddor 1996)
-    --concentration M      concentration in mol/L; with --path-length gives ε = A/(c·l)
-    --path-length CM       cell path length in cm
-    --export-csv FILE      write the converted spectra (cm⁻¹, ascending) as CSV
-    --json                 machine-readable output
+FILE must be a regular file of at most 256 MiB (no directory, device or pipe).
 ";
 
-pub fn run(args: &mut Args, json: bool) -> Result<(), CliError> {
-    if args.flag("--help") || args.flag("-h") {
-        print!("{HELP}");
-        return Ok(());
-    }
-    if let Some(spec) = args.value("--savgol-coeffs")? {
-        args.finish()?;
-        return savgol_coeffs(&spec, json);
-    }
-    let raw = args.flag("--raw");
-    let opts = ImportOptions {
-        x_unit: parse_option(args.value("--x-unit")?)?,
-        y_quantity: parse_option(args.value("--y-quantity")?)?,
-        air_to_vacuum: args.flag("--air-to-vacuum"),
-        concentration_mol_l: args.number("--concentration")?,
-        path_length_cm: args.number("--path-length")?,
-    };
-    let export = args.value("--export-csv")?;
-    let file = args
-        .next_positional()
-        .ok_or_else(|| CliError::Usage("import needs a FILE; see `ddlens import --help`".into()))?;
-    args.finish()?;
-    let bytes =
-        std::fs::read(&file).map_err(|e| CliError::Failed(format!("cannot read '{file}': {e}")))?;
+pub(super) const FLAGS: [&Flag; 13] = [
+    &flags::X_UNIT,
+    &flags::Y_QUANTITY,
+    &flags::AIR_TO_VACUUM,
+    &flags::CONCENTRATION,
+    &flags::PATH_LENGTH,
+    &flags::EXPORT_CSV,
+    &flags::CROP,
+    &flags::SMOOTH,
+    &flags::SUBTRACT_BASELINE,
+    &flags::RAW,
+    &flags::SAVGOL_COEFFS,
+    &flags::JSON,
+    &flags::HELP,
+];
 
-    if raw {
+pub fn run(words: &[String]) -> Result<String, CliError> {
+    let p = flags::parse(words, &FLAGS, "import")?;
+    if p.help {
+        return Ok(flags::help(HEADER, &FLAGS));
+    }
+    let json = p.json;
+    if let Some([window, order, deriv]) = p.savgol_coeffs {
+        super::no_positionals(&p)?;
+        return savgol_coeffs(window, order, deriv, json);
+    }
+    let opts = ImportOptions {
+        x_unit: p.x_unit,
+        y_quantity: p.y_quantity,
+        air_to_vacuum: p.air_to_vacuum,
+        concentration_mol_l: p.concentration,
+        path_length_cm: p.path_length,
+    };
+    let file = super::one_file(&p, "import")?;
+    let bytes = super::read_input(&file)?;
+
+    if p.raw {
         let report =
             spectrum::read_raw(&bytes, &file).map_err(|e| CliError::Failed(e.to_string()))?;
-        return print_json(&report);
+        return json_text(&report);
     }
-    let report =
+    let mut report =
         spectrum::import(&bytes, &file, &opts).map_err(|e| CliError::Failed(e.to_string()))?;
-    if let Some(path) = export {
-        std::fs::write(&path, to_csv(&report.spectra))
-            .map_err(|e| CliError::Failed(format!("cannot write '{path}': {e}")))?;
+    let steps = super::cleaning_steps(&p);
+    if !steps.is_empty() {
+        for s in report.spectra.iter_mut() {
+            let (mut clean, notes) = preprocess::apply_steps(s, &steps)
+                .map_err(|e| CliError::Failed(format!("{}: the cleaning failed: {e}", s.name)))?;
+            clean.warnings.extend(notes);
+            *s = clean;
+        }
+    }
+    if let Some(path) = &p.export_csv {
+        std::fs::write(path, to_csv(&report.spectra)).map_err(|e| {
+            CliError::Failed(format!("cannot write '{}': {e}", super::args::shown(path)))
+        })?;
     }
     let summaries: Vec<Summary> = report.spectra.iter().map(Summary::of).collect();
     if json {
-        return print_json(&serde_json::json!({
+        return json_text(&serde_json::json!({
             "format": report.format,
             "spectra": summaries,
             "warnings": report.warnings,
         }));
     }
+    let mut out = String::new();
     let plural = if summaries.len() == 1 {
         "spectrum"
     } else {
         "spectra"
     };
-    println!("{file}: {} ({} {plural})", report.format, summaries.len());
+    outln!(
+        out,
+        "{file}: {} ({} {plural})",
+        report.format,
+        summaries.len()
+    );
     for w in &report.warnings {
-        println!("  warning: {w}");
+        outln!(out, "  warning: {w}");
     }
     for s in &summaries {
-        println!(
+        outln!(
+        out,
             "\n{}\n  points     {}\n  range      {:.1}–{:.1} cm⁻¹ ({:.1}–{:.1} nm)\n  x in file  {}\n  quantity   {}",
             s.name, s.points, s.x_range_cm[0], s.x_range_cm[1], s.x_range_nm[0], s.x_range_nm[1],
             s.x_unit_read.symbol(), s.quantity.describe()
         );
         for r in s.saturated {
-            println!("  saturated  {:.1}–{:.1} cm⁻¹", r[0], r[1]);
+            outln!(out, "  saturated  {:.1}–{:.1} cm⁻¹", r[0], r[1]);
         }
         for w in s.warnings {
-            println!("  warning: {w}");
+            outln!(out, "  warning: {w}");
         }
     }
-    Ok(())
-}
-
-fn parse_option<T: std::str::FromStr<Err = String>>(
-    v: Option<String>,
-) -> Result<Option<T>, CliError> {
-    v.map(|s| s.parse::<T>().map_err(CliError::Usage))
-        .transpose()
+    Ok(out)
 }
 
 /// What `import` prints per spectrum (the data arrays are left out).
@@ -171,30 +187,20 @@ fn to_csv(spectra: &[Spectrum]) -> String {
 }
 
 /// The hidden `--savgol-coeffs W,O,D` option.
-fn savgol_coeffs(spec: &str, json: bool) -> Result<(), CliError> {
-    let parts: Vec<usize> = spec
-        .split(',')
-        .map(|p| p.trim().parse::<usize>())
-        .collect::<Result<_, _>>()
-        .map_err(|_| {
-            CliError::Usage(format!(
-                "--savgol-coeffs: expected W,O,D as whole numbers, found '{spec}'"
-            ))
-        })?;
-    let [window, order, deriv] = parts[..] else {
-        return Err(CliError::Usage(format!(
-            "--savgol-coeffs: expected three numbers W,O,D, found '{spec}'"
-        )));
-    };
+fn savgol_coeffs(
+    window: usize,
+    order: usize,
+    deriv: usize,
+    json: bool,
+) -> Result<String, CliError> {
     let coefficients = preprocess::savgol_coeffs(window, order, deriv)
         .map_err(|e| CliError::Failed(e.to_string()))?;
     if json {
-        print_json(&serde_json::json!({
+        json_text(&serde_json::json!({
             "window": window, "order": order, "deriv": deriv, "coefficients": coefficients,
         }))
     } else {
         let text: Vec<String> = coefficients.iter().map(|c| format!("{c:.12e}")).collect();
-        println!("{}", text.join(" "));
-        Ok(())
+        Ok(format!("{}\n", text.join(" ")))
     }
 }

@@ -14,12 +14,10 @@
 mod angular;
 mod determinants;
 mod diagram;
-mod draw;
 mod model;
 
 pub use angular::{ck, wigner_3j};
 pub use diagram::{diagram, spin_change, Curve, Diagram};
-pub use draw::{draw_diagram, DiagramFrame, DiagramStyle};
 pub use model::{Block, Irrep, Model};
 
 use serde::{Deserialize, Serialize};
@@ -112,8 +110,6 @@ pub enum LfError {
     UnknownGeometry(String),
     /// A diagram request (range, points or C/B) is out of range.
     Diagram(String),
-    /// The drawing backend failed (for example the output could not be written).
-    Drawing(String),
 }
 
 impl fmt::Display for LfError {
@@ -136,7 +132,6 @@ impl fmt::Display for LfError {
                 "unknown geometry '{g}': use octahedral (oh) or tetrahedral (td)"
             ),
             LfError::Diagram(message) => f.write_str(message),
-            LfError::Drawing(message) => write!(f, "the diagram could not be drawn: {message}"),
         }
     }
 }

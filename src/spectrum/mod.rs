@@ -11,7 +11,6 @@
 //! - [`units`] converts the x axis (nm, µm, cm⁻¹, eV, optional air→vacuum) and
 //!   the y quantity (T, %T, log ε → A or ε);
 //! - [`assemble`] sorts, averages duplicate x, flags saturation;
-//! - [`project`] recognises the saved-analysis JSON envelope;
 //!
 //! Readers produce [`RawSpectrum`]s in file units; `assemble` makes them
 //! [`Spectrum`]s. Nothing here panics on any input: every failure is an
@@ -22,7 +21,6 @@ mod assemble;
 pub mod delimited;
 mod error;
 pub mod jcamp;
-pub mod project;
 pub mod saturation;
 pub mod text;
 pub mod units;
@@ -142,7 +140,8 @@ pub fn read_raw(bytes: &[u8], file_name: &str) -> Result<RawReport, ImportError>
     if body.starts_with('{') {
         return match serde_json::from_str::<serde_json::Value>(body) {
             Ok(value) => {
-                let schema = project::check_envelope(&value)?;
+                let schema = crate::analysis::schema_of(&value)
+                    .map_err(|e| ImportError::Project(e.to_string()))?;
                 Err(ImportError::ProjectFile { schema })
             }
             Err(_) => Err(ImportError::Malformed {

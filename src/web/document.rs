@@ -13,7 +13,8 @@
 //! - [`format_estimate`]: a value with its σ as the engine writes it.
 
 use super::{from_js, to_js};
-use crate::analysis::{self, document};
+use crate::analysis::{self, defaults::Defaults, document};
+use crate::bands::BaselineModel;
 use crate::estimate::Estimate;
 use crate::preprocess::{self, Step};
 use crate::spectrum::{Spectrum, Warning, XUnit};
@@ -33,7 +34,7 @@ pub fn analyze_document(doc: JsValue, progress: &js_sys::Function) -> Result<JsV
             .map(|v| v.as_bool() != Some(false))
             .unwrap_or(true)
     };
-    let done = interim::analyze(&doc, &mut report)?;
+    let done = analysis::analyze(&doc, &mut report).map_err(|e| JsError::new(&e.to_string()))?;
     to_js(&done)
 }
 
@@ -75,7 +76,15 @@ pub fn apply_steps(data: JsValue, steps: JsValue) -> Result<JsValue, JsError> {
 #[wasm_bindgen]
 pub fn new_document(sample: JsValue) -> Result<JsValue, JsError> {
     let sample: document::Sample = from_js(sample, "the sample")?;
-    to_js(&interim::new_document(sample))
+    to_js(&document::Document {
+        sample,
+        steps: Vec::new(),
+        bands: document::BandSetup::default(),
+        ligand_field: None,
+        results: None,
+        program: String::new(),
+        notices: Vec::new(),
+    })
 }
 
 /// What [`project_from_json`] returns.
@@ -115,22 +124,31 @@ pub fn project_to_json(text: &str) -> Result<String, JsError> {
     Ok(project.to_json())
 }
 
-/// The page's defaults: the engine's (`analysis::defaults`) plus the unit
-/// facts the page's read-outs use.
+/// The page's defaults: the engine's (`analysis::defaults`) plus what the
+/// page's read-outs and band editing use.
 #[derive(Serialize)]
 struct PageDefaults {
     #[serde(flatten)]
-    engine: interim::Defaults,
+    engine: Defaults,
     /// cm⁻¹ per eV (`spectrum::units`), for the plot's read-out.
     wavenumber_per_ev: f64,
+    /// The baseline under a band model the user builds without a fit
+    /// (`BaselineModel`'s default).
+    refit_baseline: BaselineModel,
+    /// B, cm⁻¹, that scales the diagram and the what-if levels when a fit has
+    /// none (d¹, d⁹): their levels do not depend on B, so any positive value
+    /// draws the same diagram; 1000 is a round scale, not a measured value.
+    b_stand_in: f64,
 }
 
 /// Every default the page shows or sends, defined once in the core.
 #[wasm_bindgen]
 pub fn defaults() -> Result<JsValue, JsError> {
     to_js(&PageDefaults {
-        engine: interim::Defaults::get(),
+        engine: Defaults::get(),
         wavenumber_per_ev: crate::spectrum::units::WAVENUMBER_PER_EV,
+        refit_baseline: BaselineModel::default(),
+        b_stand_in: 1000.0,
     })
 }
 
@@ -145,123 +163,3 @@ pub fn format_estimate(value: f64, sigma: Option<f64>) -> String {
     .grouped()
 }
 
-/// Stand-ins for `analysis::analyze`, `Document::new` and `analysis::Defaults`
-/// until the core's land (same composition: steps → band fit → assignment).
-mod interim {
-    use super::*;
-    use crate::analysis::{AnalysisOptions, BandCount, ImportSummary, Results};
-    use crate::bands::{BaselineModel, Shape};
-
-    pub fn new_document(sample: document::Sample) -> document::Document {
-        document::Document {
-            sample,
-            steps: Vec::new(),
-            bands: document::BandSetup {
-                count: BandCount::Auto(6),
-                shape: Shape::Gaussian,
-                baseline: None,
-                max_iterations: 200,
-                range: None,
-                model: None,
-            },
-            ligand_field: None,
-            results: None,
-            program: String::new(),
-            notices: Vec::new(),
-        }
-    }
-
-    pub fn analyze(
-        doc: &document::Document,
-        progress: &mut dyn FnMut(crate::bands::Progress) -> bool,
-    ) -> Result<document::Document, JsError> {
-        let err = |e: &dyn std::fmt::Display| JsError::new(&e.to_string());
-        let data = doc
-            .sample
-            .data
-            .as_ref()
-            .ok_or_else(|| JsError::new("the document carries no data"))?;
-        let spectrum = data.spectrum(&doc.sample.name, &doc.sample.metadata);
-        let (clean, cleaning) = preprocess::apply_steps(&spectrum, &doc.steps).map_err(|e| err(&e))?;
-        let opts = AnalysisOptions {
-            bands: doc.bands.count,
-            shape: doc.bands.shape,
-            baseline: doc.bands.baseline,
-            max_iterations: doc.bands.max_iterations,
-            range: doc.bands.range,
-            ..AnalysisOptions::default()
-        };
-        let bands = match &doc.bands.model {
-            Some(m) => analysis::refit(&clean, m, &opts, progress),
-            None => analysis::deconvolve(&clean, &opts, progress),
-        }
-        .map_err(|e| err(&e))?;
-        let mut warnings: Vec<String> = cleaning.into_iter().map(|w| w.message).collect();
-        let (observed, fit, fit_error) = match &doc.ligand_field {
-            Some(lf) => {
-                let a = analysis::assign(&bands, &clean, opts.range, &lf.request());
-                warnings.extend(a.warnings);
-                (a.observed, a.fit, a.fit_error)
-            }
-            None => (analysis::observed_bands(&bands.fit, clean.quantity), None, None),
-        };
-        let mut out = doc.clone();
-        out.results = Some(Results {
-            import: ImportSummary::of(&clean),
-            bands,
-            observed,
-            fit,
-            fit_error,
-            warnings,
-        });
-        out.program = format!("ddlens {}", crate::VERSION);
-        Ok(out)
-    }
-
-    #[derive(Serialize)]
-    pub struct Defaults {
-        palette: Vec<String>,
-        band_count_limit: usize,
-        c_over_b_fallback: f64,
-        b_fallback: f64,
-        choice_match: f64,
-        position_allowance: f64,
-        baseline_candidates: Vec<BaselineModel>,
-        refit_baseline: BaselineModel,
-        cleaning: Cleaning,
-    }
-
-    #[derive(Serialize)]
-    struct Cleaning {
-        smooth_window: usize,
-        smooth_order: usize,
-        polynomial_order: usize,
-        lambda: f64,
-        asls_p: f64,
-    }
-
-    impl Defaults {
-        pub fn get() -> Self {
-            Defaults {
-                palette: crate::plot::palette::SERIES
-                    .iter()
-                    .map(|c| format!("#{:02x}{:02x}{:02x}", c.0, c.1, c.2))
-                    .collect(),
-                band_count_limit: 6,
-                c_over_b_fallback: crate::lf_fit::DEFAULT_C_OVER_B,
-                b_fallback: 1000.0,
-                choice_match: analysis::CHOICE_MATCH,
-                position_allowance: 0.005,
-                baseline_candidates: vec![BaselineModel::Linear, BaselineModel::Scattering],
-                refit_baseline: BaselineModel::Linear,
-                cleaning: Cleaning {
-                    smooth_window: 11,
-                    smooth_order: 2,
-                    polynomial_order: 1,
-                    lambda: 1e5,
-                    asls_p: 0.01,
-                },
-            }
-        }
-    }
-}

@@ -2,8 +2,9 @@
 //! the energy-level diagram (the whole analysis is `analyze_document`).
 
 use super::{from_js, to_js};
-use crate::compare::{draw_series, series_svg, SeriesPoint};
-use crate::ligand_field::{self, draw_diagram, DiagramStyle, Geometry, Params};
+use crate::figures::diagram::{draw_diagram, DiagramStyle};
+use crate::figures::series::{draw_series, series_svg, SeriesPoint};
+use crate::ligand_field::{self, Geometry, Params};
 use plotters::prelude::IntoDrawingArea;
 use plotters_canvas::CanvasBackend;
 use serde::Deserialize;
@@ -106,7 +107,7 @@ pub fn level_diagram_svg(request: JsValue) -> Result<String, JsError> {
     Ok(out)
 }
 
-/// Δ and β across samples (`compare::draw_series`) on a canvas sized CSS × `scale`.
+/// Δ and β across samples (`figures::series::draw_series`) on a canvas sized CSS × `scale`.
 #[wasm_bindgen]
 pub fn draw_series_plot(
     canvas: HtmlCanvasElement,

@@ -9,7 +9,7 @@
 mod document;
 mod ligand;
 
-use crate::plot::spectrum::{self as spectrum_plot, SpectrumFigure};
+use crate::figures::spectrum::{self as spectrum_plot, SpectrumFigure};
 use plotters::prelude::IntoDrawingArea;
 use plotters_canvas::CanvasBackend;
 use serde::Serialize;

@@ -39,10 +39,13 @@ function baselineMethod() {
   return m ? m : null; // 'rubber_band' is a unit variant
 }
 
-/** Fills the cleaning inputs with the engine's defaults (Savitzky–Golay window and order, the baselines' parameters). */
+/** Fills the cleaning inputs with the engine's defaults (Savitzky–Golay window and order, each baseline method's parameters). */
 function setCleaningDefaults() {
   const c = DEFAULTS.cleaning;
-  for (const [id, v] of [['smooth-window', c.smooth_window], ['smooth-order', c.smooth_order], ['baseline-order', c.polynomial_order], ['baseline-lambda', c.lambda], ['baseline-p', c.asls_p]]) $(id).value = v;
+  const args = Object.assign({}, ...c.baselines.filter((m) => typeof m === 'object').map((m) => Object.values(m)[0]));
+  for (const [id, v] of [['smooth-window', c.smooth_window], ['smooth-order', c.smooth_order], ['baseline-order', args.order], ['baseline-lambda', args.lambda], ['baseline-p', args.p]]) {
+    if (v != null) $(id).value = v;
+  }
 }
 
 /** Shows only the inputs of the chosen method. */

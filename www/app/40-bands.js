@@ -13,7 +13,7 @@ const LOCKS = [['centre', 'centre'], ['fwhm', 'width'], ['height', 'height']];
 
 /** The document's band setup for a band count (0: chosen by BIC up to the engine's limit) and a model (null: automatic). */
 function bandSetup(d, n, model) {
-  return { ...d.bands, count: n > 0 ? { fixed: n } : { auto: DEFAULTS.band_count_limit }, shape: $('band-shape').value, model };
+  return { ...d.bands, count: n > 0 ? { fixed: n } : { auto: DEFAULTS.auto_bands }, shape: $('band-shape').value, model };
 }
 
 /** The model on screen as the core's `BandModel` (no page-only fields), or null. */

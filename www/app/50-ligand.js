@@ -166,7 +166,7 @@ function assignmentRows(lf) {
 /** The fit's C/B, or the engine's fallback when the fit has none (d¹, d⁹). */
 const cOverB = (lf) => { const d = lf.analysis.fit.best.derived; return d.c_over_b ? d.c_over_b.value : DEFAULTS.c_over_b_fallback; };
 /** The fit's B, or the engine's stand-in B when the fit has none (d¹, d⁹: the levels do not depend on it). */
-const fittedB = (lf) => { const p = lf.analysis.fit.best.parameters; return p.b ? p.b.value : DEFAULTS.b_fallback; };
+const fittedB = (lf) => { const p = lf.analysis.fit.best.parameters; return p.b ? p.b.value : DEFAULTS.b_stand_in; };
 
 /** The states a band can be given: the engine's levels at the fit, spin-allowed first. */
 function stateOptions(lf) {
@@ -293,7 +293,7 @@ function drawDiagram() {
 const sub = (v, lo, hi) => Math.min(hi, Math.max(lo, v));
 function cursorAt(lf, x, level) {
   const pt = shownPoint(lf);
-  const b = pt.b || DEFAULTS.b_fallback;
+  const b = pt.b || DEFAULTS.b_stand_in;
   const levels = levelsAt(lf, x, b);
   const k = sub(level, 0, levels.length - 1);
   lf.cursor = { x, level: k };

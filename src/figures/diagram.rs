@@ -1,3 +1,7 @@
+//! The energy-level diagram (E/B against Δ/B at fixed C/B, after Tanabe &
+//! Sugano, J. Phys. Soc. Jpn. 9, 753 (1954)), drawn from the plain data
+//! [`crate::ligand_field::diagram`] returns.
+//!
 //! Drawing of an energy-level diagram on any plotters backend (SVG for the CLI,
 //! a canvas in the browser). Every pixel size is multiplied by `scale` so a
 //! high-DPI canvas gets the same picture at more pixels.
@@ -6,7 +10,8 @@
 //! dashed vertical line; each curve is labelled at its right end unless the
 //! label would overlap the one below it.
 
-use super::{Diagram, LfError};
+use super::{axis_range, pixel_scale, style as colours, FigureError};
+use crate::ligand_field::Diagram;
 use plotters::coord::Shift;
 use plotters::prelude::*;
 use serde::{Deserialize, Serialize};
@@ -49,33 +54,13 @@ impl Default for DiagramStyle {
     }
 }
 
-/// Colour for a spin multiplicity (1…6).
-fn multiplicity_colour(multiplicity: u8) -> RGBColor {
-    match multiplicity {
-        1 => RGBColor(120, 120, 120),
-        2 => RGBColor(31, 119, 180),
-        3 => RGBColor(214, 39, 40),
-        4 => RGBColor(44, 160, 44),
-        5 => RGBColor(148, 103, 189),
-        _ => RGBColor(255, 127, 14),
-    }
-}
-
-fn drawing_error<E: std::fmt::Debug>(e: E) -> LfError {
-    LfError::Drawing(format!("{e:?}"))
-}
-
 /// Draws `diagram` filling `root`; returns where its axes lie.
 pub fn draw_diagram<DB: DrawingBackend>(
     root: &DrawingArea<DB, Shift>,
     diagram: &Diagram,
     style: &DiagramStyle,
-) -> Result<DiagramFrame, LfError> {
-    let scale = if style.scale.is_finite() && style.scale > 0.0 {
-        style.scale
-    } else {
-        1.0
-    };
+) -> Result<DiagramFrame, FigureError> {
+    let scale = pixel_scale(style.scale);
     let px = |v: f64| (v * scale).round().max(1.0) as u32;
     let x_max = diagram
         .delta_over_b
@@ -87,7 +72,9 @@ pub fn draw_diagram<DB: DrawingBackend>(
         .max_energy_over_b
         .filter(|y| y.is_finite() && *y > 0.0)
         .unwrap_or((2.0 * x_max).max(10.0));
-    root.fill(&WHITE).map_err(drawing_error)?;
+    let x_max = axis_range(0.0, x_max, "Δ/B")?[1];
+    let y_max = axis_range(0.0, y_max, "E/B")?[1];
+    root.fill(&WHITE)?;
     let font = ("sans-serif", px(13.0)).into_font();
     let mut chart = ChartBuilder::on(root)
         .caption(
@@ -101,8 +88,7 @@ pub fn draw_diagram<DB: DrawingBackend>(
         .margin_right(px(if style.labels { 90.0 } else { 15.0 }))
         .x_label_area_size(px(40.0))
         .y_label_area_size(px(50.0))
-        .build_cartesian_2d(0.0..x_max, 0.0..y_max)
-        .map_err(drawing_error)?;
+        .build_cartesian_2d(0.0..x_max, 0.0..y_max)?;
     chart
         .configure_mesh()
         .disable_mesh()
@@ -110,20 +96,17 @@ pub fn draw_diagram<DB: DrawingBackend>(
         .y_desc("E/B")
         .label_style(font.clone())
         .axis_desc_style(font.clone())
-        .draw()
-        .map_err(drawing_error)?;
+        .draw()?;
     let mut label_heights: Vec<(f64, &str, RGBColor)> = Vec::new();
     for curve in &diagram.curves {
-        let colour = multiplicity_colour(curve.multiplicity);
+        let colour = colours::multiplicity(curve.multiplicity);
         let line = ShapeStyle::from(&colour).stroke_width(px(1.5));
         let mut run: Vec<(f64, f64)> = Vec::new();
         for (&x, &y) in diagram.delta_over_b.iter().zip(&curve.energy_over_b) {
             if y <= y_max {
                 run.push((x, y));
             } else if !run.is_empty() {
-                chart
-                    .draw_series(LineSeries::new(std::mem::take(&mut run), line))
-                    .map_err(drawing_error)?;
+                chart.draw_series(LineSeries::new(std::mem::take(&mut run), line))?;
             }
         }
         if let Some(&(x, y)) = run.last() {
@@ -132,40 +115,32 @@ pub fn draw_diagram<DB: DrawingBackend>(
             }
         }
         if run.len() > 1 {
-            chart
-                .draw_series(LineSeries::new(run, line))
-                .map_err(drawing_error)?;
+            chart.draw_series(LineSeries::new(run, line))?;
         }
     }
     if let Some(change) = diagram.spin_change.filter(|&c| c <= x_max) {
-        chart
-            .draw_series(DashedLineSeries::new(
-                [(change, 0.0), (change, y_max)],
-                px(6.0),
-                px(4.0),
-                ShapeStyle::from(&BLACK).stroke_width(px(1.0)),
-            ))
-            .map_err(drawing_error)?;
+        chart.draw_series(DashedLineSeries::new(
+            [(change, 0.0), (change, y_max)],
+            px(colours::DASH.0),
+            px(colours::DASH.1),
+            ShapeStyle::from(&BLACK).stroke_width(px(1.0)),
+        ))?;
     }
-    let accent = RGBColor(213, 94, 0); // Okabe–Ito vermillion
+    let accent = colours::ACCENT;
     if let Some(x) = style
         .fitted_delta_over_b
         .filter(|x| x.is_finite() && (0.0..=x_max).contains(x))
     {
-        chart
-            .draw_series(LineSeries::new(
-                [(x, 0.0), (x, y_max)],
-                accent.stroke_width(px(2.0)),
-            ))
-            .map_err(drawing_error)?;
+        chart.draw_series(LineSeries::new(
+            [(x, 0.0), (x, y_max)],
+            accent.stroke_width(px(2.0)),
+        ))?;
     }
     let points = style
         .observed
         .iter()
         .filter(|p| p.iter().all(|v| v.is_finite()) && p[1] <= y_max);
-    chart
-        .draw_series(points.map(|p| Circle::new((p[0], p[1]), px(4.0), accent.filled())))
-        .map_err(drawing_error)?;
+    chart.draw_series(points.map(|p| Circle::new((p[0], p[1]), px(4.0), accent.filled())))?;
     if style.labels {
         label_heights.sort_by(|a, b| a.0.total_cmp(&b.0));
         let min_gap = y_max * 14.0 * scale / f64::from(root.dim_in_pixel().1.max(1));
@@ -176,16 +151,14 @@ pub fn draw_diagram<DB: DrawingBackend>(
             }
             last_written = y;
             let label_font = ("sans-serif", px(11.0)).into_font().color(&colour);
-            chart
-                .draw_series(std::iter::once(Text::new(
-                    text.to_string(),
-                    (x_max * 1.01, y),
-                    label_font,
-                )))
-                .map_err(drawing_error)?;
+            chart.draw_series(std::iter::once(Text::new(
+                text.to_string(),
+                (x_max * 1.01, y),
+                label_font,
+            )))?;
         }
     }
-    root.present().map_err(drawing_error)?;
+    root.present()?;
     // The pixel ranges are half-open; plotters maps the axis ends onto the last pixel inside.
     let (xs, ys) = chart.plotting_area().get_pixel_range();
     Ok(DiagramFrame {

@@ -1,5 +1,7 @@
-//! Colours: the Okabe–Ito colour-blind-safe palette (Okabe & Ito, "Color
-//! Universal Design", 2008), used for samples and band components.
+//! Colours and line styles shared by every figure (one place): the
+//! Okabe–Ito colour-blind-safe palette (Okabe & Ito, "Color Universal
+//! Design", 2008) for samples and band components, the ink and grid of the
+//! axes, and the spin-multiplicity colours of the energy-level diagram.
 
 use plotters::style::RGBColor;
 
@@ -18,6 +20,29 @@ pub const SERIES: [RGBColor; 7] = [
 pub const INK: RGBColor = RGBColor(34, 34, 34);
 /// Grid lines.
 pub const GRID: RGBColor = RGBColor(225, 225, 225);
+
+/// Predicted-transition markers and their ± spans (Okabe–Ito reddish purple).
+pub const MARKER: RGBColor = SERIES[3];
+/// Fitted values and observed points on the diagram (Okabe–Ito vermillion).
+pub const ACCENT: RGBColor = SERIES[1];
+/// Shaded (flagged) x spans, drawn at [`SHADE_ALPHA`].
+pub const SHADE: RGBColor = RGBColor(120, 120, 120);
+/// Opacity of shaded spans.
+pub const SHADE_ALPHA: f64 = 0.18;
+/// Dash and gap lengths of dashed lines, CSS pixels.
+pub const DASH: (f64, f64) = (6.0, 4.0);
+
+/// Colour of a diagram curve by its spin multiplicity (1…6).
+pub fn multiplicity(multiplicity: u8) -> RGBColor {
+    match multiplicity {
+        1 => RGBColor(120, 120, 120),
+        2 => RGBColor(31, 119, 180),
+        3 => RGBColor(214, 39, 40),
+        4 => RGBColor(44, 160, 44),
+        5 => RGBColor(148, 103, 189),
+        _ => RGBColor(255, 127, 14),
+    }
+}
 
 /// The colour of series number `i`, cycling through the palette.
 pub fn series(i: usize) -> RGBColor {

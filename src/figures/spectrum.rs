@@ -4,7 +4,7 @@
 //! flagged regions, vertical markers for predicted transitions, drag handles
 //! of edited bands and an optional residual strip under the plot.
 
-use super::{palette, PlotError};
+use super::{axis_range, style as palette, FigureError};
 use plotters::coord::types::RangedCoordf64;
 use plotters::coord::Shift;
 use plotters::prelude::*;
@@ -92,63 +92,88 @@ pub struct Frame {
 }
 
 impl SpectrumFigure {
-    fn data_x_range(&self) -> [f64; 2] {
-        let mut lo = f64::INFINITY;
-        let mut hi = f64::NEG_INFINITY;
-        for v in self
-            .lines
-            .iter()
-            .flat_map(|l| l.x.iter())
-            .filter(|v| v.is_finite())
-        {
-            lo = lo.min(*v);
-            hi = hi.max(*v);
-        }
-        sane_range(lo, hi, [5000.0, 35000.0])
+    /// The x range of the data (cm⁻¹), or a default view when there is none.
+    fn data_x_range(&self) -> Result<[f64; 2], FigureError> {
+        let xs = self.lines.iter().flat_map(|l| l.x.iter().copied());
+        range_of(xs, DEFAULT_X_RANGE, "wavenumber")
     }
 
-    fn data_y_range(&self, x: [f64; 2]) -> [f64; 2] {
-        let mut lo = f64::INFINITY;
-        let mut hi = f64::NEG_INFINITY;
-        for l in &self.lines {
-            for (xv, yv) in l.x.iter().zip(&l.y) {
-                if *xv >= x[0] && *xv <= x[1] && yv.is_finite() {
-                    lo = lo.min(*yv);
-                    hi = hi.max(*yv);
-                }
-            }
+    /// The y range of the data inside the x view, from zero, with headroom.
+    fn data_y_range(&self, x: [f64; 2]) -> Result<[f64; 2], FigureError> {
+        let inside = self.lines.iter().flat_map(|l| {
+            l.x.iter()
+                .zip(&l.y)
+                .filter(move |(xv, _)| **xv >= x[0] && **xv <= x[1])
+                .map(|(_, yv)| *yv)
+        });
+        let [lo, hi] = range_of(inside.chain([0.0]), [0.0, 1.0], "y")?;
+        Ok([lo, hi + 0.08 * (hi - lo)])
+    }
+
+    /// The visible x range: the view when it has finite ends, else the data's.
+    fn x_view(&self) -> Result<[f64; 2], FigureError> {
+        match self.x_range {
+            Some([a, b]) if a.is_finite() && b.is_finite() => axis_range(a, b, "wavenumber"),
+            _ => self.data_x_range(),
         }
-        let [lo, hi] = sane_range(lo.min(0.0), hi, [0.0, 1.0]);
-        [lo, hi + 0.08 * (hi - lo)]
+    }
+
+    /// The visible y range: the given one when it has finite ends, else the data's.
+    fn y_view(&self, x: [f64; 2]) -> Result<[f64; 2], FigureError> {
+        match self.y_range {
+            Some([a, b]) if a.is_finite() && b.is_finite() => axis_range(a, b, "y"),
+            _ => self.data_y_range(x),
+        }
     }
 }
 
-/// A finite, non-empty range, or the fallback.
-fn sane_range(lo: f64, hi: f64, fallback: [f64; 2]) -> [f64; 2] {
-    if !(lo.is_finite() && hi.is_finite()) {
-        fallback
-    } else if hi - lo <= f64::EPSILON * hi.abs().max(1.0) {
-        [lo - 0.5 * lo.abs().max(1.0), hi + 0.5 * hi.abs().max(1.0)]
-    } else {
-        [lo, hi]
+/// The view when a figure has no data (cm⁻¹): the near-IR to near-UV d–d region.
+const DEFAULT_X_RANGE: [f64; 2] = [5000.0, 35000.0];
+
+/// The checked range of the finite `values`, or `empty` when there are none.
+fn range_of(
+    values: impl Iterator<Item = f64>,
+    empty: [f64; 2],
+    axis: &'static str,
+) -> Result<[f64; 2], FigureError> {
+    let (lo, hi) = values
+        .filter(|v| v.is_finite())
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), v| {
+            (lo.min(v), hi.max(v))
+        });
+    if lo > hi {
+        return Ok(empty);
     }
+    axis_range(lo, hi, axis)
 }
+
+/// Most ticks [`nice_ticks`] returns, whatever it is asked.
+const MAX_TICKS: usize = 1000;
 
 /// "Nice" tick values covering [lo, hi]: steps of 1, 2 or 5 × 10ⁿ.
 pub fn nice_ticks(lo: f64, hi: f64, target: usize) -> Vec<f64> {
     if !(lo.is_finite() && hi.is_finite()) || hi <= lo || target == 0 {
         return Vec::new();
     }
-    let raw = (hi - lo) / target as f64;
+    let raw = (hi - lo) / target.min(MAX_TICKS) as f64;
     let mag = 10f64.powf(raw.log10().floor());
     let step = [1.0, 2.0, 5.0, 10.0]
         .iter()
         .map(|m| m * mag)
         .find(|s| *s >= raw)
         .unwrap_or(10.0 * mag);
-    let first = (lo / step).ceil() as i64;
-    let last = (hi / step).floor() as i64;
-    (first..=last).map(|i| i as f64 * step).collect()
+    let (first, last) = ((lo / step).ceil(), (hi / step).floor());
+    // An overflowing span or a vanishing step gives no ticks rather than a
+    // count past what fits an i64 or a screen; the loop runs ≤ MAX_TICKS + 1 times.
+    if !(step.is_finite() && step > 0.0 && first.is_finite() && last.is_finite())
+        || last - first > MAX_TICKS as f64
+    {
+        return Vec::new();
+    }
+    let first = first as i64;
+    (0..=(last as i64 - first))
+        .map(|i| (first + i) as f64 * step)
+        .collect()
 }
 
 /// Share of the figure's height given to the residual strip.
@@ -159,22 +184,18 @@ pub fn draw<DB: DrawingBackend>(
     root: &DrawingArea<DB, Shift>,
     fig: &SpectrumFigure,
     scale: f64,
-) -> Result<Frame, PlotError> {
+) -> Result<Frame, FigureError> {
     let s = |v: f64| (v * scale).round().max(1.0) as u32;
     root.fill(&WHITE)?;
-    let x = fig
-        .x_range
-        .map(|r| sane_range(r[0].min(r[1]), r[0].max(r[1]), fig.data_x_range()))
-        .unwrap_or_else(|| fig.data_x_range());
-    let y = fig
-        .y_range
-        .map(|r| sane_range(r[0].min(r[1]), r[0].max(r[1]), [0.0, 1.0]))
-        .unwrap_or_else(|| fig.data_y_range(x));
+    let x = fig.x_view()?;
+    let y = fig.y_view(x)?;
     let font = |size: f64| ink_font(size, scale);
 
     // The bottom axis shows wavenumber (energy grows to the right) or wavelength.
     let (bx, to_bottom): ([f64; 2], fn(f64) -> f64) = if fig.nm_bottom {
-        ([1e7 / x[1], 1e7 / x[0]], |v| 1e7 / v)
+        (axis_range(1e7 / x[1], 1e7 / x[0], "wavelength")?, |v| {
+            1e7 / v
+        })
     } else {
         (x, |v| v)
     };
@@ -213,7 +234,7 @@ pub fn draw<DB: DrawingBackend>(
         }
         chart.draw_series(std::iter::once(Rectangle::new(
             [(a, y[0]), (b, y[1])],
-            RGBColor(120, 120, 120).mix(0.18).filled(),
+            palette::SHADE.mix(palette::SHADE_ALPHA).filled(),
         )))?;
     }
     for m in &fig.markers {
@@ -221,7 +242,7 @@ pub fn draw<DB: DrawingBackend>(
             let (a, b) = (to_bottom(m.x - m.sigma), to_bottom(m.x + m.sigma));
             chart.draw_series(std::iter::once(Rectangle::new(
                 [(a.min(b), y[0]), (a.max(b), y[1])],
-                palette::SERIES[3].mix(0.15).filled(),
+                palette::MARKER.mix(0.15).filled(),
             )))?;
         }
     }
@@ -231,7 +252,7 @@ pub fn draw<DB: DrawingBackend>(
         if xm < bx[0] || xm > bx[1] {
             continue;
         }
-        let style = palette::SERIES[3].stroke_width(s(1.5));
+        let style = palette::MARKER.stroke_width(s(1.5));
         if m.dashed {
             chart.draw_series(DashedLineSeries::new(
                 vec![(xm, y[0]), (xm, y[1])],
@@ -314,6 +335,7 @@ pub fn draw<DB: DrawingBackend>(
             }
         }
         let r = if worst > 0.0 { 1.1 * worst } else { 1.0 };
+        let [_, r] = axis_range(-r, r, "residual")?;
         let mut strip = ChartBuilder::on(&area)
             .margin(s(10.0))
             .margin_right(s(18.0))
@@ -353,7 +375,7 @@ fn draw_mesh<DB: DrawingBackend>(
     x_desc: &str,
     y_desc: &str,
     y_labels: usize,
-) -> Result<(), PlotError> {
+) -> Result<(), FigureError> {
     let s = (scale.round().max(1.0)) as u32;
     chart
         .configure_mesh()
@@ -381,7 +403,7 @@ fn draw_lines<DB: DrawingBackend>(
     y: [f64; 2],
     to_bottom: fn(f64) -> f64,
     scale: f64,
-) -> Result<(), PlotError> {
+) -> Result<(), FigureError> {
     let s = |v: f64| (v * scale).round().max(1.0) as u32;
     let clip = |v: f64| v.clamp(y[0], y[1]);
     let (px_lo, _) = chart.backend_coord(&(bx[0], y[1]));
@@ -507,7 +529,7 @@ fn trim_number(v: f64) -> String {
 }
 
 /// The figure as an SVG document (width × height CSS pixels).
-pub fn to_svg(fig: &SpectrumFigure, width: u32, height: u32) -> Result<String, PlotError> {
+pub fn to_svg(fig: &SpectrumFigure, width: u32, height: u32) -> Result<String, FigureError> {
     let mut out = String::new();
     {
         let root =

@@ -3,12 +3,11 @@
 //! nephelauxetic (β) order. Drawn on any plotters backend: a canvas in the
 //! browser, SVG for export. Every pixel size is multiplied by `scale`.
 
+use super::{axis_range, pixel_scale, style as palette, FigureError};
 use crate::estimate::Estimate;
-use crate::plot::palette;
 use plotters::coord::Shift;
 use plotters::prelude::*;
 use serde::{Deserialize, Serialize};
-use std::fmt;
 
 /// One sample's numbers.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -19,30 +18,6 @@ pub struct SeriesPoint {
     /// β = B/B₀, when known.
     #[serde(default)]
     pub beta: Option<Estimate>,
-}
-
-/// Why the series figure could not be drawn.
-#[derive(Debug, Clone, PartialEq)]
-pub enum SeriesError {
-    /// No sample has a finite Δ.
-    Empty,
-    /// The drawing backend failed.
-    Drawing(String),
-}
-
-impl fmt::Display for SeriesError {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        match self {
-            SeriesError::Empty => f.write_str("no sample has a ligand-field result to compare"),
-            SeriesError::Drawing(m) => write!(f, "the series figure could not be drawn: {m}"),
-        }
-    }
-}
-
-impl std::error::Error for SeriesError {}
-
-fn drawing_error<E: fmt::Debug>(e: E) -> SeriesError {
-    SeriesError::Drawing(format!("{e:?}"))
 }
 
 /// Lowest and highest of value ± σ over `values`, widened by 10 % (or ±5 % of a single value).
@@ -77,28 +52,29 @@ fn short_name(name: &str, samples: usize) -> String {
 }
 
 /// One panel: axis label, the value of each sample, the y span, the colour.
-type Panel<'a> = (&'a str, Vec<Option<Estimate>>, Option<(f64, f64)>, RGBColor);
+type Panel = (
+    &'static str,
+    Vec<Option<Estimate>>,
+    Option<(f64, f64)>,
+    RGBColor,
+);
 
 /// Draws Δ (top) and β (bottom) of every sample in the given order, with ±σ bars.
 pub fn draw_series<DB: DrawingBackend>(
     root: &DrawingArea<DB, Shift>,
     points: &[SeriesPoint],
     scale: f64,
-) -> Result<(), SeriesError> {
+) -> Result<(), FigureError> {
     let points: Vec<&SeriesPoint> = points
         .iter()
         .filter(|p| p.delta.value.is_finite())
         .collect();
     if points.is_empty() {
-        return Err(SeriesError::Empty);
+        return Err(FigureError::NothingToCompare);
     }
-    let scale = if scale.is_finite() && scale > 0.0 {
-        scale
-    } else {
-        1.0
-    };
+    let scale = pixel_scale(scale);
     let px = |v: f64| (v * scale).round().max(1.0) as u32;
-    root.fill(&WHITE).map_err(drawing_error)?;
+    root.fill(&WHITE)?;
     let panels = root.split_evenly((2, 1));
     let n = points.len();
     let names: Vec<String> = points.iter().map(|p| short_name(&p.sample, n)).collect();
@@ -124,17 +100,16 @@ pub fn draw_series<DB: DrawingBackend>(
                 format!("{label}: not known for these samples"),
                 (px(70.0) as i32, px(40.0) as i32),
                 ("sans-serif", px(13.0)).into_font(),
-            ))
-            .map_err(drawing_error)?;
+            ))?;
             continue;
         };
+        let [lo, hi] = axis_range(lo, hi, label)?;
         let mut chart = ChartBuilder::on(area)
             .margin(px(10.0))
             .margin_right(px(20.0))
             .x_label_area_size(px(34.0))
             .y_label_area_size(px(70.0))
-            .build_cartesian_2d(-0.5..(n as f64 - 0.5), lo..hi)
-            .map_err(drawing_error)?;
+            .build_cartesian_2d(-0.5..(n as f64 - 0.5), lo..hi)?;
         let font = ("sans-serif", px(13.0)).into_font().color(&palette::INK);
         chart
             .configure_mesh()
@@ -154,8 +129,7 @@ pub fn draw_series<DB: DrawingBackend>(
             .y_desc(label)
             .label_style(font.clone())
             .axis_desc_style(font)
-            .draw()
-            .map_err(drawing_error)?;
+            .draw()?;
         let style = ShapeStyle::from(&colour).stroke_width(px(1.5));
         let known: Vec<(f64, Estimate)> = values
             .iter()
@@ -173,24 +147,20 @@ pub fn draw_series<DB: DrawingBackend>(
                 vec![(x - 0.08, a), (x + 0.08, a)],
                 vec![(x - 0.08, b), (x + 0.08, b)],
             ];
-            chart
-                .draw_series(bar.into_iter().map(|path| PathElement::new(path, style)))
-                .map_err(drawing_error)?;
+            chart.draw_series(bar.into_iter().map(|path| PathElement::new(path, style)))?;
         }
-        chart
-            .draw_series(
-                known
-                    .iter()
-                    .map(|&(x, e)| Circle::new((x, e.value), px(4.0), colour.filled())),
-            )
-            .map_err(drawing_error)?;
+        chart.draw_series(
+            known
+                .iter()
+                .map(|&(x, e)| Circle::new((x, e.value), px(4.0), colour.filled())),
+        )?;
     }
-    root.present().map_err(drawing_error)?;
+    root.present()?;
     Ok(())
 }
 
 /// The series figure as an SVG document of `width` × `height` pixels.
-pub fn series_svg(points: &[SeriesPoint], width: u32, height: u32) -> Result<String, SeriesError> {
+pub fn series_svg(points: &[SeriesPoint], width: u32, height: u32) -> Result<String, FigureError> {
     let mut out = String::new();
     {
         let root =

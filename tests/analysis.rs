@@ -1,8 +1,24 @@
-//! The whole pipeline on synthetic spectra made from known (Dq, B, C) by the
+//! The whole analysis on synthetic spectra made from known (Dq, B, C) by the
 //! engine itself: the parameters must come back within their stated
-//! uncertainties (a self-consistency check of import → bands → fit).
+//! uncertainties (a self-consistency check of import → bands → fit); the
+//! user's choices and band models reach the fit; every combination of forced
+//! states ends.
 
-use ddlens::analysis::{analyze_file, AnalysisOptions, BandCount};
+use ddlens::analysis::{
+    analyze, BandCount, BandSetup, Choice, Document, LigandFieldOptions, Results, Source,
+};
+
+/// Imports a file and analyses it with `bands` and the ligand-field options `lf`.
+fn analyze_file(
+    bytes: &[u8],
+    name: &str,
+    bands: BandSetup,
+    lf: Option<FitRequest>,
+) -> Result<Results, ddlens::analysis::AnalysisError> {
+    let mut doc = Document::import(bytes, name, Source::default(), bands)?;
+    doc.ligand_field = lf.map(LigandFieldOptions::from);
+    Ok(analyze(&doc, &mut |_| true)?.results.expect("results"))
+}
 use ddlens::bands::BaselineModel;
 use ddlens::lf_fit::{FitRequest, ObservedBand};
 use ddlens::ligand_field::{model, Geometry, Params};
@@ -41,17 +57,17 @@ fn synthetic(n: u8, geometry: Geometry, p: Params, k: usize) -> (String, Vec<f64
 
 fn check(n: u8, geometry: Geometry, p: Params, k: usize) {
     let (csv, centres) = synthetic(n, geometry, p, k);
-    let opts = AnalysisOptions {
-        bands: BandCount::Fixed(centres.len()),
-        ligand_field: Some(FitRequest {
-            n,
-            geometry,
-            c_over_b: Some(p.c / p.b),
-            ..FitRequest::default()
-        }),
-        ..AnalysisOptions::default()
+    let setup = BandSetup {
+        count: BandCount::Fixed(centres.len()),
+        ..BandSetup::default()
     };
-    let a = analyze_file(csv.as_bytes(), "synthetic.csv", &opts)
+    let lf = FitRequest {
+        n,
+        geometry,
+        c_over_b: Some(p.c / p.b),
+        ..FitRequest::default()
+    };
+    let a = analyze_file(csv.as_bytes(), "synthetic.csv", setup, Some(lf))
         .unwrap_or_else(|e| panic!("d{n} {geometry}: {e}"));
     let fit = a
         .fit
@@ -120,17 +136,14 @@ fn recovers_parameters_for_d2_d3_d7_tetrahedral_and_d8() {
 fn the_demo_with_default_options_finds_its_two_bands_on_a_scattering_baseline() {
     // fixtures/demo/make_demo.py: two d³ bands from Dq 1650, B 690 cm⁻¹ on a
     // 0.015 + 0.02·(ν̃/30 000)⁴ baseline. With every choice left automatic the
-    // pipeline must pick the scattering baseline and two bands, not take up the
+    // analysis must pick the scattering baseline and two bands, not take up the
     // curvature with small extra bands.
-    let opts = AnalysisOptions {
-        ligand_field: Some(FitRequest {
-            ion: Some("Cr3+".into()),
-            ..FitRequest::default()
-        }),
-        ..AnalysisOptions::default()
+    let lf = FitRequest {
+        ion: Some("Cr3+".into()),
+        ..FitRequest::default()
     };
     let csv = include_bytes!("../fixtures/demo/demo-crx7.csv");
-    let a = analyze_file(csv, "demo-crx7.csv", &opts).unwrap();
+    let a = analyze_file(csv, "demo-crx7.csv", BandSetup::default(), Some(lf)).unwrap();
     assert_eq!(a.bands.fit.baseline.model, BaselineModel::Scattering);
     assert_eq!(a.bands.fit.bands.len(), 2);
     let best = a.fit.expect("a fit").best;
@@ -146,21 +159,21 @@ fn the_demo_with_default_options_finds_its_two_bands_on_a_scattering_baseline() 
 
 /// The demo (fixtures/demo/make_demo.py: d³ octahedral, Dq 1650, B 690) with
 /// two bands, and the user's per-band choices handed in as the request's bands.
-fn demo(choices: Vec<ObservedBand>) -> ddlens::analysis::Analysis {
-    let opts = AnalysisOptions {
-        bands: BandCount::Fixed(2),
-        ligand_field: Some(FitRequest {
-            ion: Some("Cr3+".into()),
-            bands: choices,
-            ..FitRequest::default()
-        }),
-        ..AnalysisOptions::default()
+fn demo(choices: Vec<ObservedBand>) -> Results {
+    let setup = BandSetup {
+        count: BandCount::Fixed(2),
+        ..BandSetup::default()
+    };
+    let lf = FitRequest {
+        ion: Some("Cr3+".into()),
+        bands: choices,
+        ..FitRequest::default()
     };
     let csv = include_bytes!("../fixtures/demo/demo-crx7.csv");
-    analyze_file(csv, "demo-crx7.csv", &opts).unwrap()
+    analyze_file(csv, "demo-crx7.csv", setup, Some(lf)).unwrap()
 }
 
-fn states(a: &ddlens::analysis::Analysis) -> Vec<String> {
+fn states(a: &Results) -> Vec<String> {
     let fit = a.fit.as_ref().expect("a fit");
     fit.best
         .assignment
@@ -184,7 +197,7 @@ fn user_choices_reach_the_fit_matched_by_energy() {
     let forced = demo(vec![choice(high * 1.01, Some("4T1g(P)"), false)]);
     assert_eq!(states(&forced)[1], "4T1g(P)");
     assert_eq!(forced.observed[1].assign.as_deref(), Some("4T1g(P)"));
-    let d = |a: &ddlens::analysis::Analysis| a.fit.as_ref().unwrap().best.derived.delta.value;
+    let d = |a: &Results| a.fit.as_ref().unwrap().best.derived.delta.value;
     assert!(
         (d(&forced) - d(&auto)).abs() > 100.0,
         "forcing changed nothing"
@@ -213,11 +226,11 @@ fn refit_keeps_locks_and_ties_and_matches_deconvolve_when_unchanged() {
     use ddlens::analysis::{deconvolve, pick_spectrum, refit};
     use ddlens::bands::{BandModel, BaselineModel, Tie};
     let bytes = std::fs::read("fixtures/bands/five_gaussians_2000.txt").unwrap();
-    let opts = AnalysisOptions {
-        bands: BandCount::Fixed(5),
-        ..AnalysisOptions::default()
+    let opts = BandSetup {
+        count: BandCount::Fixed(5),
+        ..BandSetup::default()
     };
-    let s = pick_spectrum(&bytes, "five.txt", &opts).unwrap();
+    let s = pick_spectrum(&bytes, "five.txt", &Source::default()).unwrap();
     let auto = deconvolve(&s, &opts, &mut |_| true).unwrap().fit;
     let mut bands: Vec<_> = auto
         .bands
@@ -274,12 +287,12 @@ fn within<T: Send + 'static>(secs: u64, f: impl FnOnce() -> T + Send + 'static) 
 #[test]
 fn every_combination_of_forced_states_ends_with_a_fit_or_a_reason() {
     use ddlens::analysis::{assign, deconvolve, pick_spectrum};
-    let opts = AnalysisOptions {
-        bands: BandCount::Fixed(2),
-        ..AnalysisOptions::default()
+    let opts = BandSetup {
+        count: BandCount::Fixed(2),
+        ..BandSetup::default()
     };
     let csv = include_bytes!("../fixtures/demo/demo-crx7.csv");
-    let s = pick_spectrum(csv, "demo-crx7.csv", &opts).unwrap();
+    let s = pick_spectrum(csv, "demo-crx7.csv", &Source::default()).unwrap();
     let bands = deconvolve(&s, &opts, &mut |_| true).unwrap();
     let energies: Vec<f64> = bands
         .fit
@@ -287,8 +300,8 @@ fn every_combination_of_forced_states_ends_with_a_fit_or_a_reason() {
         .iter()
         .map(|b| b.maximum.unwrap_or(b.centre.value))
         .collect();
-    type Choice = (Option<String>, bool);
-    let forced = |names: &[&str]| -> Vec<Choice> {
+    type Pick = (Option<String>, bool);
+    let forced = |names: &[&str]| -> Vec<Pick> {
         names.iter().map(|n| (Some(n.to_string()), false)).collect()
     };
     let mut cr = forced(&["4T2g", "4T1g(F)", "4T1g(P)", "5Eg"]);
@@ -301,16 +314,18 @@ fn every_combination_of_forced_states_ends_with_a_fit_or_a_reason() {
         for (ion, options) in &cases {
             for a in options {
                 for b in options {
-                    let choice = |e: f64, (assign, not_dd): &Choice| ObservedBand {
+                    let choice = |e: f64, (assign, not_dd): &Pick| Choice {
                         energy: e,
                         assign: assign.clone(),
                         not_dd: *not_dd,
-                        ..ObservedBand::default()
                     };
-                    let req = FitRequest {
-                        ion: Some(ion.to_string()),
-                        bands: vec![choice(energies[0], a), choice(energies[1], b)],
-                        ..FitRequest::default()
+                    let req = LigandFieldOptions {
+                        choices: vec![choice(energies[0], a), choice(energies[1], b)],
+                        ..FitRequest {
+                            ion: Some(ion.to_string()),
+                            ..FitRequest::default()
+                        }
+                        .into()
                     };
                     let out = assign(&bands, &s, None, &req);
                     outcomes.push((*ion, a.clone(), b.clone(), out.fit.is_some(), out.fit_error));
