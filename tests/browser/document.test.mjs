@@ -112,7 +112,9 @@ test('clean, edit and lock, analyse, save: `ddlens analyze --project` agrees wit
     await context.close();
 
     const out = runCli(['analyze', '--project', path, '--json']);
-    const doc = Array.isArray(out.samples) ? out.samples[out.active || 0] : out;
+    // One analysed document per sample of the project (the page saved one).
+    assert.equal(out.length, 1);
+    const doc = out[0];
     const r = doc.results, b = r.fit.best;
     const native = { delta: b.derived.delta.value, b: b.parameters.b.value, beta: b.derived.beta.value, centres: r.bands.bands.map((x) => x.centre.value) };
     for (const k of ['delta', 'b', 'beta']) assert.ok(relative(shown[k], native[k]) <= 1e-4, `${k}: page ${shown[k]}, CLI ${native[k]}`);
@@ -133,28 +135,17 @@ test('a project that names a missing field is refused with the field named, and 
 });
 
 // A wave-1 project: schema 1, as the page wrote it before the document
-// (www/app/60-project.js `projectDoc()` of that version), made here from the demo's data.
-test('a wave-1 project file opens, migrated, with its notice shown, and its analysis is recomputed', async () => {
+// (fixtures/projects/README.md: the demo twice, once cropped, once analysed with a forced state).
+test('a wave-1 project file opens, migrated, with its notice shown; its cleaning and analysis are kept', async () => {
   const { context, page, log } = await openPage(browser, site.url);
-  const wave1 = await page.evaluate(() => {
-    const s = window.ddlens.state.samples[0];
-    return {
-      ddlens_project: 1, program: 'ddlens 0.1.0', saved: '2026-11-30T10:00:00Z', selected: 0,
-      bands: { count: '2', shape: 'gaussian' }, series_sort: { key: null, dir: 1 }, view: { x: null, y: null, nmBottom: false, yMode: 'a' },
-      samples: [{
-        name: 'CrX-7 wave 1', file: 'CrX-7 (demo).csv', quantity: s.quantity, xUnit: 'wavenumber', saturated: [], metadata: {},
-        concentration: null, path: null, colour: '#0072b2', visible: true, lfChoices: [],
-        wavenumber: Array.from(s.raw.wavenumber), values: Array.from(s.raw.values),
-        ligand_field: { controls: { ion: 'Cr3+', geometry: 'octahedral', c_over_b: '', free_c: false, spin_forbidden: false, b0: 'common', ligand: '', band_count: '2', shape: 'gaussian' } },
-      }],
-    };
-  });
-  await page.locator('#file-input').setInputFiles({ name: 'wave1.ddlens.json', mimeType: 'application/json', buffer: Buffer.from(JSON.stringify(wave1)) });
-  await page.waitForFunction(() => window.ddlens.state.samples[0].name === 'CrX-7 wave 1' && window.ddlens.state.lf, null, { timeout: 30000 });
-  assert.match(await page.locator('#messages').innerText(), /schema 1|migrat/i);
-  const r = await page.evaluate(() => window.ddlens.state.lf.analysis);
-  assert.equal(r.bands.bands.length, 2, 'the stored band count is used');
-  assert.ok(r.fit, 'the stored ligand-field options are analysed again');
+  await page.locator('#file-input').setInputFiles('fixtures/projects/wave1-demo.json');
+  await page.waitForFunction(() => window.ddlens.state.samples.length === 2 && window.ddlens.state.samples[1].lf, null, { timeout: 30000 });
+  assert.match(await page.locator('#messages').innerText(), /schema 1/);
+  const got = await page.evaluate(() => window.ddlens.state.samples.map((s) => ({ steps: s.steps, points: s.wavenumber.length, raw: s.raw.wavenumber.length, choices: s.choices, bands: s.lf && s.lf.analysis.bands.bands.length })));
+  assert.deepEqual(got[0].steps, [{ crop: { low: 13000, high: 30000 } }], 'the crop became a document step');
+  assert.ok(got[0].points < got[0].raw, 'the cropped sample shows its cleaned spectrum');
+  assert.equal(got[1].bands, 2, 'the stored band count is used');
+  assert.deepEqual(got[1].choices.map((c) => c.energy), [23300], 'the forced state is kept');
   assert.deepEqual(log.errors, []);
   await context.close();
 });
