@@ -51,7 +51,9 @@ impl Estimate {
 /// `-12345.678` → `-12 345.678` (thin spaces); anything but a number is returned as it is.
 fn group_integer_part(word: &str) -> String {
     let (sign, rest) = word.strip_prefix('-').map_or(("", word), |r| ("-", r));
-    let digits = rest.find(|c: char| !c.is_ascii_digit()).unwrap_or(rest.len());
+    let digits = rest
+        .find(|c: char| !c.is_ascii_digit())
+        .unwrap_or(rest.len());
     if digits == 0 {
         return word.to_string();
     }
@@ -113,10 +115,16 @@ mod tests {
     #[test]
     fn grouped_text_sets_thin_spaces_in_integer_parts_only() {
         assert_eq!(Estimate::new(17403.2, 61.0).grouped(), "17\u{2009}403 ± 61");
-        assert_eq!(Estimate::new(-1234.5, 0.12).grouped(), "-1\u{2009}234.50 ± 0.12");
+        assert_eq!(
+            Estimate::new(-1234.5, 0.12).grouped(),
+            "-1\u{2009}234.50 ± 0.12"
+        );
         assert_eq!(Estimate::exact(0.00056).grouped(), "0.00056");
         assert_eq!(Estimate::exact(999.0).grouped(), "999");
-        assert_eq!(Estimate::new(123456.0, 1500.0).grouped(), "123\u{2009}456 ± 1\u{2009}500");
+        assert_eq!(
+            Estimate::new(123456.0, 1500.0).grouped(),
+            "123\u{2009}456 ± 1\u{2009}500"
+        );
         assert_eq!(Estimate::exact(f64::NAN).grouped(), "—");
     }
 

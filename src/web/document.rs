@@ -139,6 +139,8 @@ struct PageDefaults {
     /// none (d¹, d⁹): their levels do not depend on B, so any positive value
     /// draws the same diagram; 1000 is a round scale, not a measured value.
     b_stand_in: f64,
+    /// The highest energy the what-if predictions list, cm⁻¹ (the fit's default).
+    max_prediction: f64,
 }
 
 /// Every default the page shows or sends, defined once in the core.
@@ -149,6 +151,7 @@ pub fn defaults() -> Result<JsValue, JsError> {
         wavenumber_per_ev: crate::spectrum::units::WAVENUMBER_PER_EV,
         refit_baseline: BaselineModel::default(),
         b_stand_in: 1000.0,
+        max_prediction: crate::lf_fit::DEFAULT_MAX_PREDICTION,
     })
 }
 
@@ -162,4 +165,3 @@ pub fn format_estimate(value: f64, sigma: Option<f64>) -> String {
     }
     .grouped()
 }
-

@@ -248,7 +248,7 @@ function predictions() {
   const { x, b } = lf.whatIf;
   const levels = levelsAt(lf, x, b);
   const ground = levels[0];
-  return levels.slice(1).filter((l) => l.energy < 50000)
+  return levels.slice(1).filter((l) => l.energy < DEFAULTS.max_prediction)
     .map((l) => ({ x: l.energy, sigma: 0, label: l.typeset, dashed: l.multiplicity !== ground.multiplicity }));
 }
 
