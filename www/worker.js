@@ -9,6 +9,8 @@ const jobs = {
   import: (msg) => wasm_bindgen.import_spectrum(msg.bytes, msg.name, msg.options || null),
   // `analysis::analyze` on one document (the function `ddlens analyze --project` runs):
   // its cleaning steps, its band model (none: automatic deconvolution), its ligand field.
+  // A project file's text from the page's workspace JSON (autosave, off the main thread).
+  project: (msg) => wasm_bindgen.project_to_json(msg.text),
   analyze: (msg, progress) => wasm_bindgen.analyze_document(msg.doc, (it) => { progress(it); return true; }),
 };
 

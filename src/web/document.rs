@@ -106,20 +106,12 @@ pub fn project_from_json(text: &str) -> Result<String, JsError> {
     serde_json::to_string(&Loaded { project, notices }).map_err(|e| JsError::new(&e.to_string()))
 }
 
-/// Writes the page's workspace (JSON text of a project, as `JSON.stringify`
-/// gives it) as a project file (`Project::to_json`); the schema version and
-/// the program are filled in by the core when the page leaves them out.
+/// Writes the page's workspace (the JSON text of a `Project`, as
+/// `JSON.stringify` gives it, with the schema of `defaults()`) as a project
+/// file (`Project::to_json`).
 #[wasm_bindgen]
 pub fn project_to_json(text: &str) -> Result<String, JsError> {
-    let mut value: serde_json::Value = serde_json::from_str(text)
-        .map_err(|e| JsError::new(&format!("the project is malformed: {e}")))?;
-    if let Some(map) = value.as_object_mut() {
-        map.entry("ddlens_project")
-            .or_insert_with(|| document::SCHEMA.into());
-        map.entry("program")
-            .or_insert_with(|| format!("ddlens {}", crate::VERSION).into());
-    }
-    let project: document::Project = serde_json::from_value(value)
+    let project: document::Project = serde_json::from_str(text)
         .map_err(|e| JsError::new(&format!("the project is malformed: {e}")))?;
     Ok(project.to_json())
 }

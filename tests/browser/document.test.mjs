@@ -125,7 +125,7 @@ test('clean, edit and lock, analyse, save: `ddlens analyze --project` agrees wit
 test('a project that names a missing field is refused with the field named, and nothing is loaded', async () => {
   const { context, page } = await openPage(browser, site.url);
   // A saved project with one number spoiled: the core names where.
-  const text = await page.evaluate(() => wasm_bindgen.project_to_json(JSON.stringify({ samples: window.ddlens.state.samples.map((s) => s.doc), active: 0, page: {} })));
+  const text = await page.evaluate(() => wasm_bindgen.project_to_json(JSON.stringify({ ddlens_project: 2, samples: window.ddlens.state.samples.map((s) => s.doc), active: 0, page: {} })));
   const spoiled = JSON.parse(text);
   delete spoiled.samples[0].bands;
   await page.locator('#file-input').setInputFiles({ name: 'spoiled.ddlens.json', mimeType: 'application/json', buffer: Buffer.from(JSON.stringify(spoiled)) });

@@ -29,16 +29,18 @@ function savedDoc(s) {
   return copyDoc(s.doc, (d) => { d.bands = { ...d.bands, model: modelForDoc(s) }; d.results = null; });
 }
 
-/** The workspace as the core's `Project` JSON text. */
-function projectText() {
+/** The workspace as the JSON text of a `Project` (unchecked: `project_to_json` makes the file). */
+function workspaceJson() {
   const active = state.samples.findIndex((s) => s.id === Number($('clean-target').value));
-  return wasm_bindgen.project_to_json(JSON.stringify({
-    saved: new Date().toISOString(),
+  return JSON.stringify({
+    ddlens_project: DEFAULTS.schema, program: `ddlens ${wasm_bindgen.version()}`, saved: new Date().toISOString(),
     samples: state.samples.map(savedDoc),
     active: active >= 0 ? active : null,
     page: { view: { x: state.view.x, y: state.view.y, nm_bottom: state.view.nmBottom, y_mode: state.view.yMode }, series_sort: state.lfSort },
-  }));
+  });
 }
+/** The workspace as a project file's text, written by the core. */
+const projectText = () => wasm_bindgen.project_to_json(workspaceJson());
 
 /** A page sample from a loaded document: its cleaned spectrum, and its band fit and analysis when it carries results. */
 function sampleFromDoc(doc) {
@@ -79,11 +81,16 @@ async function loadProject(text) {
 
 let autosaveTimer = null;
 let autosaveWarned = false;
+/** Keeps the workspace in the browser's storage, 300 ms after the last change;
+ *  the core writes the project text in the worker, off the main thread. */
 function autosaveSoon() {
   clearTimeout(autosaveTimer);
-  autosaveTimer = setTimeout(() => {
+  autosaveTimer = setTimeout(async () => {
     let text;
-    try { text = projectText(); } catch (e) { say(`The workspace could not be kept: ${e.message || e}`); return; }
+    try { text = await worker.run('project', { text: workspaceJson() }); } catch (e) {
+      if (!e.cancelled) say(`The workspace could not be kept: ${e.message || e}`);
+      return;
+    }
     try { localStorage.setItem(AUTOSAVE_KEY, text); } catch (e) {
       if (!autosaveWarned) say('This browser refused to keep the workspace (storage full or disabled): save the project file to keep your work.');
       autosaveWarned = true;
