@@ -224,7 +224,7 @@ fn user_choices_reach_the_fit_matched_by_energy() {
 #[test]
 fn refit_keeps_locks_and_ties_and_matches_deconvolve_when_unchanged() {
     use ddlens::analysis::{deconvolve, pick_spectrum, refit};
-    use ddlens::bands::{BandModel, BaselineModel, Tie};
+    use ddlens::bands::{BandModel, Tie};
     let bytes = std::fs::read("fixtures/bands/five_gaussians_2000.txt").unwrap();
     let opts = BandSetup {
         count: BandCount::Fixed(5),
@@ -232,23 +232,8 @@ fn refit_keeps_locks_and_ties_and_matches_deconvolve_when_unchanged() {
     };
     let s = pick_spectrum(&bytes, "five.txt", &Source::default()).unwrap();
     let auto = deconvolve(&s, &opts, &mut |_| true).unwrap().fit;
-    let mut bands: Vec<_> = auto
-        .bands
-        .iter()
-        .map(|b| ddlens::bands::BandSpec {
-            shape: b.shape,
-            centre: b.centre.value,
-            fwhm: b.fwhm.value,
-            height: b.height.value,
-            extra: None,
-            fixed: Vec::new(),
-        })
-        .collect();
-    let model = BandModel {
-        bands: bands.clone(),
-        baseline: BaselineModel::Linear,
-        ties: Vec::new(),
-    };
+    let model = ddlens::analysis::model_of(&auto);
+    let mut bands = model.bands.clone();
     let again = refit(&s, &model, &opts, &mut |_| true).unwrap().fit;
     for (a, b) in auto.bands.iter().zip(&again.bands) {
         assert!((a.centre.value - b.centre.value).abs() < 1e-3 * a.centre.value);
@@ -257,7 +242,7 @@ fn refit_keeps_locks_and_ties_and_matches_deconvolve_when_unchanged() {
     bands[0].fixed = vec!["centre".into()];
     let model = BandModel {
         bands,
-        baseline: BaselineModel::Linear,
+        baseline: model.baseline,
         ties: vec![Tie::EqualFwhm { band: 2, to: 1 }],
     };
     let edited = refit(&s, &model, &opts, &mut |_| true).unwrap().fit;

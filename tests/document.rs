@@ -166,22 +166,7 @@ fn non_finite_numbers_and_unequal_lengths_are_named() {
 fn a_band_model_outside_its_spectrum_or_with_bad_ties_is_refused() {
     let mut doc = analyze(&demo_doc(), &mut |_| true).unwrap();
     let fit = &doc.results.as_ref().unwrap().bands.fit;
-    let mut model = ddlens::bands::BandModel {
-        bands: fit
-            .bands
-            .iter()
-            .map(|b| ddlens::bands::BandSpec {
-                shape: b.shape,
-                centre: b.centre.value,
-                fwhm: b.fwhm.value,
-                height: b.height.value,
-                extra: None,
-                fixed: Vec::new(),
-            })
-            .collect(),
-        baseline: fit.baseline.model,
-        ties: Vec::new(),
-    };
+    let mut model = ddlens::analysis::model_of(fit);
     model.bands[1].centre = 52_000.0;
     doc.bands.model = Some(model.clone());
     let m = refused(&project_of(doc.clone()));
@@ -265,22 +250,7 @@ fn a_document_with_a_band_model_is_fitted_from_that_model() {
     let auto = analyze(&demo_doc(), &mut |_| true).unwrap();
     let fit = &auto.results.as_ref().unwrap().bands.fit;
     let mut doc = demo_doc();
-    let mut model = ddlens::bands::BandModel {
-        bands: fit
-            .bands
-            .iter()
-            .map(|b| ddlens::bands::BandSpec {
-                shape: b.shape,
-                centre: b.centre.value,
-                fwhm: b.fwhm.value,
-                height: b.height.value,
-                extra: None,
-                fixed: Vec::new(),
-            })
-            .collect(),
-        baseline: fit.baseline.model,
-        ties: Vec::new(),
-    };
+    let mut model = ddlens::analysis::model_of(fit);
     // The user dragged the upper band 400 cm⁻¹ up and locked it there.
     model.bands[1].centre += 400.0;
     model.bands[1].fixed = vec!["centre".into()];

@@ -48,6 +48,7 @@ mod load;
 mod migrate;
 mod validate;
 
+pub use crate::bands::model_of;
 pub use document::{
     BandCount, BandSetup, Choice, Display, Document, LigandFieldOptions, PageState, Project,
     Results, Sample, SampleData, SeriesSort, Source, View, SCHEMA,
@@ -419,7 +420,7 @@ pub fn assign(
                     ));
                 } else {
                     fit_error = Some(format!(
-                        "{m}; every band left has a forced state, so none can be set aside — change or remove a forced state"
+                        "{m}; every band left has a forced state, so none can be set aside: the forced states cannot all hold at once (check their order) — change or remove one"
                     ));
                     break;
                 }

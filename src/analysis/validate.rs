@@ -87,6 +87,16 @@ fn data_span(data: &SampleData, at: &str) -> Result<[f64; 2], DocumentError> {
             format!("holds {} numbers but wavenumber holds {}", y.len(), x.len()),
         ));
     }
+    if x.len() > crate::spectrum::MAX_POINTS {
+        return Err(DocumentError::field(
+            format!("{at}.wavenumber"),
+            format!(
+                "holds {} points, more than the {} a spectrum may hold",
+                x.len(),
+                crate::spectrum::MAX_POINTS
+            ),
+        ));
+    }
     if x.len() < 2 {
         return Err(DocumentError::field(
             format!("{at}.wavenumber"),
