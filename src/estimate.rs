@@ -30,6 +30,44 @@ pub const SIGMA_DIGITS: usize = 2;
 /// Significant digits of a value written without uncertainty.
 pub const PLAIN_DIGITS: usize = 6;
 
+impl Estimate {
+    /// The [`Display`](std::fmt::Display) text with the integer part of each
+    /// number set in groups of three digits separated by thin spaces
+    /// (U+2009), as the page and the report print it: `17 403 ± 61`,
+    /// `0.00056` unchanged (digit grouping with thin spaces: ISO 80000-1 §7.3.1,
+    /// from memory). A non-finite value is written as a dash, never as NaN.
+    pub fn grouped(&self) -> String {
+        if !self.value.is_finite() {
+            return "—".to_string();
+        }
+        self.to_string()
+            .split(' ')
+            .map(group_integer_part)
+            .collect::<Vec<_>>()
+            .join(" ")
+    }
+}
+
+/// `-12345.678` → `-12 345.678` (thin spaces); anything but a number is returned as it is.
+fn group_integer_part(word: &str) -> String {
+    let (sign, rest) = word.strip_prefix('-').map_or(("", word), |r| ("-", r));
+    let digits = rest
+        .find(|c: char| !c.is_ascii_digit())
+        .unwrap_or(rest.len());
+    if digits == 0 {
+        return word.to_string();
+    }
+    let (int, tail) = rest.split_at(digits);
+    let mut out = String::from(sign);
+    for (i, c) in int.chars().enumerate() {
+        if i > 0 && (int.len() - i) % 3 == 0 {
+            out.push('\u{2009}');
+        }
+        out.push(c);
+    }
+    out + tail
+}
+
 impl std::fmt::Display for Estimate {
     /// Writes the value the way chemists write it: `17400 ± 60`, the value
     /// rounded to the decade of the uncertainty's two significant digits.
@@ -72,6 +110,22 @@ mod tests {
         assert_eq!(Estimate::new(1.0, f64::NAN).sigma, None);
         assert_eq!(Estimate::new(1.0, -1.0).sigma, None);
         assert_eq!(Estimate::new(1.0, 0.5).sigma, Some(0.5));
+    }
+
+    #[test]
+    fn grouped_text_sets_thin_spaces_in_integer_parts_only() {
+        assert_eq!(Estimate::new(17403.2, 61.0).grouped(), "17\u{2009}403 ± 61");
+        assert_eq!(
+            Estimate::new(-1234.5, 0.12).grouped(),
+            "-1\u{2009}234.50 ± 0.12"
+        );
+        assert_eq!(Estimate::exact(0.00056).grouped(), "0.00056");
+        assert_eq!(Estimate::exact(999.0).grouped(), "999");
+        assert_eq!(
+            Estimate::new(123456.0, 1500.0).grouped(),
+            "123\u{2009}456 ± 1\u{2009}500"
+        );
+        assert_eq!(Estimate::exact(f64::NAN).grouped(), "—");
     }
 
     #[test]

@@ -7,10 +7,11 @@ if (typeof wasm_bindgen === 'undefined') importScripts('ddlens_glue.js');
 const jobs = {
   version: () => wasm_bindgen.version(),
   import: (msg) => wasm_bindgen.import_spectrum(msg.bytes, msg.name, msg.options || null),
-  // The whole pipeline on one spectrum (the same function as `ddlens analyze`).
-  analyze: (msg) => wasm_bindgen.analyze(msg.spectrum, msg.options),
-  // The band fit of `ddlens deconvolve` (automatic guess, or the user's bands in request.model).
-  fit: (msg, progress) => wasm_bindgen.deconvolve_bands(msg.x, msg.y, msg.request, (it) => { progress(it); return true; }),
+  // `analysis::analyze` on one document (the function `ddlens analyze --project` runs):
+  // its cleaning steps, its band model (none: automatic deconvolution), its ligand field.
+  // A project file's text from the page's workspace JSON (autosave, off the main thread).
+  project: (msg) => wasm_bindgen.project_to_json(msg.text),
+  analyze: (msg, progress) => wasm_bindgen.analyze_document(msg.doc, (it) => { progress(it); return true; }),
 };
 
 let ready = null;

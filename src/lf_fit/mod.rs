@@ -94,7 +94,7 @@ pub struct FitRequest {
     /// Which free-ion table to take B₀ from (see [`crate::ions`]).
     #[serde(default)]
     pub b0_source: Option<String>,
-    /// Predict transitions up to this energy, cm⁻¹ (default 50 000).
+    /// Predict transitions up to this energy, cm⁻¹ (default [`DEFAULT_MAX_PREDICTION`]).
     #[serde(default)]
     pub max_prediction: Option<f64>,
     /// The ligand (one kind), for Jørgensen's estimates shown next to the fit.
@@ -278,6 +278,10 @@ impl From<LfError> for LfFitError {
 /// Default C/B when the ion gives none (common practice for first-row ions).
 pub const DEFAULT_C_OVER_B: f64 = 4.5;
 
+/// Transitions are predicted up to this energy, cm⁻¹, unless asked otherwise
+/// (common practice: d–d spectra are rarely measured beyond 50 000 cm⁻¹, 200 nm).
+pub const DEFAULT_MAX_PREDICTION: f64 = 50_000.0;
+
 /// The checked problem every later stage works on.
 pub(crate) struct Problem {
     pub n: u8,
@@ -380,7 +384,7 @@ fn check(req: &FitRequest) -> Result<Problem, LfFitError> {
     let max_prediction = req
         .max_prediction
         .filter(|v| v.is_finite() && *v > 0.0)
-        .unwrap_or(50_000.0);
+        .unwrap_or(DEFAULT_MAX_PREDICTION);
     let observed_from = req.observed_from.filter(|v| v.is_finite()).unwrap_or(0.0);
     Ok(Problem {
         n,

@@ -1,8 +1,7 @@
-//! Facade for the ligand-field side: ions, levels, the whole-pipeline
-//! analysis, the assignment fit and the energy-level diagram.
+//! Facade for the ligand-field side: ions, levels, the assignment fit and
+//! the energy-level diagram (the whole analysis is `analyze_document`).
 
 use super::{from_js, to_js};
-use crate::analysis::{self, Document};
 use crate::figures::diagram::{draw_diagram, DiagramStyle};
 use crate::figures::series::{draw_series, series_svg, SeriesPoint};
 use crate::ligand_field::{self, Geometry, Params};
@@ -34,20 +33,6 @@ pub fn ligands() -> Result<JsValue, JsError> {
 pub fn levels(n: u8, geometry_name: &str, dq: f64, b: f64, c: f64) -> Result<JsValue, JsError> {
     let m = ligand_field::model(n, geometry(geometry_name)?)?;
     to_js(&m.levels(&Params { dq, b, c })?)
-}
-
-/// Analyses a document (the same function as `ddlens analyze`): returns it
-/// with its results.
-#[wasm_bindgen]
-pub fn analyze(document: JsValue) -> Result<JsValue, JsError> {
-    let doc: Document = from_js(document, "the analysis document")?;
-    to_js(&analysis::analyze(&doc, &mut |_| true)?)
-}
-
-/// Every default the page needs (`analysis::defaults::Defaults`).
-#[wasm_bindgen]
-pub fn defaults() -> Result<JsValue, JsError> {
-    to_js(&analysis::defaults::Defaults::get())
 }
 
 /// The assignment search and fit for given band maxima (after the user edits the assignment).

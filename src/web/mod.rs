@@ -6,6 +6,7 @@
 //! plain sentence. Plotting runs on the main thread (plotters measures text
 //! through the DOM); heavy computation runs in the worker's own instance.
 
+mod document;
 mod ligand;
 
 use crate::figures::spectrum::{self as spectrum_plot, SpectrumFigure};
@@ -121,106 +122,12 @@ pub fn import_spectrum(
     to_js(&report)
 }
 
-/// Savitzky–Golay smoothing (`preprocess::savgol`, derivative 0).
-#[wasm_bindgen]
-pub fn smooth_savgol(y: &[f64], window: usize, order: usize) -> Result<Vec<f64>, JsError> {
-    crate::preprocess::savgol(y, window, order, 0).map_err(|e| JsError::new(&e.to_string()))
-}
-
 /// Baseline under (x, y) by one of the core's methods
 /// (`preprocess::baseline`); `method` is a `BaselineMethod`.
 #[wasm_bindgen]
 pub fn baseline(x: &[f64], y: &[f64], method: JsValue) -> Result<Vec<f64>, JsError> {
     let method: crate::preprocess::BaselineMethod = from_js(method, "the baseline method")?;
     crate::preprocess::baseline(x, y, &method).map_err(|e| JsError::new(&e.to_string()))
-}
-
-/// What the page sends for a band fit: the spectrum's facts besides (x, y),
-/// the same options as `ddlens deconvolve`, and optionally the user's edited
-/// bands to start from (then the band count is not chosen).
-#[derive(serde::Deserialize)]
-struct BandRequest {
-    #[serde(default)]
-    quantity: Option<crate::spectrum::Quantity>,
-    #[serde(default)]
-    saturated: Vec<[f64; 2]>,
-    options: crate::analysis::BandSetup,
-    #[serde(default)]
-    model: Option<crate::bands::BandModel>,
-}
-
-/// Curves of a band model on x.
-#[derive(Serialize)]
-struct Curves {
-    total: Vec<f64>,
-    components: Vec<Vec<f64>>,
-    baseline: Vec<f64>,
-}
-
-/// What the page needs after a band fit: the band table (with the BIC per
-/// band count when the count was chosen), its curves and the residuals on x.
-#[derive(Serialize)]
-struct FitView {
-    fit: crate::bands::BandFit,
-    bic_per_band_count: Option<Vec<(usize, f64)>>,
-    reduced_chi2_per_band_count: Option<Vec<(usize, Option<f64>)>>,
-    #[serde(flatten)]
-    curves: Curves,
-    residual: Vec<f64>,
-}
-
-/// The band fit of `ddlens deconvolve` (`analysis::deconvolve`, or
-/// `analysis::refit` from the given model): same points, weights and options.
-/// `progress` is called with the iteration number; returning false cancels.
-#[wasm_bindgen]
-pub fn deconvolve_bands(
-    x: Vec<f64>,
-    y: Vec<f64>,
-    request: JsValue,
-    progress: &js_sys::Function,
-) -> Result<JsValue, JsError> {
-    let req: BandRequest = from_js(request, "the band fit request")?;
-    let spectrum = crate::spectrum::Spectrum {
-        name: String::new(),
-        wavenumber: x,
-        values: y,
-        quantity: req
-            .quantity
-            .unwrap_or(crate::spectrum::Quantity::Absorbance),
-        x_unit_read: crate::spectrum::XUnit::Wavenumber,
-        saturated: req.saturated,
-        metadata: Default::default(),
-        warnings: Vec::new(),
-    };
-    let mut report = |p: crate::bands::Progress| {
-        progress
-            .call1(&JsValue::NULL, &JsValue::from_f64(p.iteration as f64))
-            .map(|v| v.as_bool() != Some(false))
-            .unwrap_or(true)
-    };
-    let d = match &req.model {
-        Some(model) => crate::analysis::refit(&spectrum, model, &req.options, &mut report),
-        None => crate::analysis::deconvolve(&spectrum, &req.options, &mut report),
-    }
-    .map_err(|e| JsError::new(&e.to_string()))?;
-    let (total, components, baseline) = crate::bands::evaluate(&spectrum.wavenumber, &d.fit);
-    let residual = spectrum
-        .values
-        .iter()
-        .zip(&total)
-        .map(|(a, b)| a - b)
-        .collect();
-    to_js(&FitView {
-        fit: d.fit,
-        bic_per_band_count: d.bic_per_band_count,
-        reduced_chi2_per_band_count: d.reduced_chi2_per_band_count,
-        curves: Curves {
-            total,
-            components,
-            baseline,
-        },
-        residual,
-    })
 }
 
 /// Bands at their given values (`BandSpec` list) plus a fitted baseline

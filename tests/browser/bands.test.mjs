@@ -187,7 +187,7 @@ test('the baseline preview follows the settings; Apply subtracts it and undo res
   await page.locator('.plot-area').screenshot({ path: `${OUTPUT}/baseline-preview.png` });
   await page.locator('#clean-apply').click();
   const after = await page.evaluate(() => window.ddlens.state.samples[0]);
-  assert.deepEqual(after.processing.baseline, { polynomial: { order: 1, regions: [[11000, 13500], [27500, 33000]] } });
+  assert.deepEqual(after.doc.steps, [{ subtract_baseline: { method: { polynomial: { order: 1, regions: [[11000, 13500], [27500, 33000]] } } } }], 'the subtraction is a step of the document');
   after.values.forEach((v, i) => assert.ok(Math.abs(v - (data[i] - line[i])) < 1e-12, `point ${i}`));
   await page.locator('#undo-button').click();
   assert.deepEqual(await page.evaluate(() => window.ddlens.state.samples[0].values), data);

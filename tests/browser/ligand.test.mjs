@@ -16,7 +16,7 @@ test('the demo analysed in the page matches ddlens analyze; diagram and what-if 
   await analyseDemo(page);
   await page.locator('#lf-results').waitFor({ state: 'visible' });
   const best = await page.evaluate(() => window.ddlens.state.lf.analysis.fit.best);
-  const cli = cliAnalysis().fit.best;
+  const cli = cliAnalysis().results.fit.best;
   for (const [name, a, b] of [['Δ', best.derived.delta.value, cli.derived.delta.value], ['B', best.parameters.b.value, cli.parameters.b.value], ['β', best.derived.beta.value, cli.derived.beta.value]]) {
     assert.ok(Math.abs(a - b) <= 1e-3 * Math.abs(b), `${name}: page ${a} against CLI ${b}`);
   }

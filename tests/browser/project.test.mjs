@@ -70,9 +70,9 @@ test('a cleaned sample keeps its steps through a reload and can still go back to
   assert.ok(cropped < 601, `${cropped} points after the crop`);
   await page.waitForTimeout(600); // the autosave is debounced by 300 ms
   await page.reload();
-  await page.waitForFunction(() => window.ddlens.state.samples.length === 1 && window.ddlens.state.samples[0].processing);
-  const restored = await page.evaluate(() => { const s = window.ddlens.state.samples[0]; return { n: s.wavenumber.length, raw: s.raw.wavenumber.length, crop: s.processing.crop }; });
-  assert.deepEqual(restored, { n: cropped, raw: 601, crop: [14000, 26000] });
+  await page.waitForFunction(() => window.ddlens.state.samples.length === 1 && window.ddlens.state.samples[0].steps.length);
+  const restored = await page.evaluate(() => { const s = window.ddlens.state.samples[0]; return { n: s.wavenumber.length, raw: s.raw.wavenumber.length, steps: s.steps }; });
+  assert.deepEqual(restored, { n: cropped, raw: 601, steps: [{ crop: { low: 14000, high: 26000 } }] });
   await page.locator('#cleaning summary').click();
   await page.locator('#clean-clear').click();
   assert.equal(await page.evaluate(() => window.ddlens.state.samples[0].wavenumber.length), 601);

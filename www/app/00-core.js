@@ -4,8 +4,9 @@
 // the drawing functions, and keeps the undo history of the user's edits.
 // This part: shared state, the compute worker, messages and undo.
 const $ = (id) => document.getElementById(id);
-const PALETTE = ['#0072b2', '#d55e00', '#009e73', '#cc79a7', '#e69f00', '#56b4e9', '#000000'];
-const EV_PER_CM = 1 / 8065.544; // CODATA 2018 hc/e in cm⁻¹ per eV (rounded)
+/** Every default the page shows or sends (palette, band-count limit, C/B
+ *  fallback, number formatting…): the engine's, read once at start-up. */
+let DEFAULTS = null;
 const state = {
   samples: [], frame: null, nextColour: 0, nextId: 1, lastImport: null, lastDrawMs: 0,
   // Transient view state (not in the undo history): the baseline preview,
@@ -84,11 +85,50 @@ function say(text, kind = 'warn') {
 /** Reports a worker job on a sample that failed or was cancelled (`what`: "fit", "analysis"…). */
 const jobFailed = (s, what, e) => say(e.cancelled ? `${s.name}: ${what} cancelled` : `${s.name}: ${e.message || e}`, e.cancelled ? 'info' : 'warn');
 
+// ---------- samples and their documents ----------
+// A sample is its analysis document (`doc`: the core's `Document`, the one
+// schema of project files, links and `ddlens analyze --project`) plus what
+// only the page needs: an id, the cleaned spectrum on screen, the band
+// model being edited, the last band fit and its curves, the ligand-field
+// view. A document is never changed in place: `withDoc` copies the parts
+// that change, so an undo snapshot keeps the document it saw.
+class Sample {
+  constructor(doc, fields = {}) { Object.assign(this, { id: state.nextId++, doc, fit: null, curves: null, lf: null, model: null, edited: false, warnings: [] }, fields); }
+  get name() { return this.doc.sample.name; }
+  get file() { return this.doc.sample.source.file_name; }
+  get colour() { return this.doc.sample.display.colour; }
+  get visible() { return this.doc.sample.display.visible; }
+  get quantity() { return this.doc.sample.data.quantity; }
+  get saturated() { return this.doc.sample.data.saturated; }
+  get metadata() { return this.doc.sample.metadata; }
+  get concentration() { return this.doc.sample.concentration; }
+  get path() { return this.doc.sample.path_length; }
+  /** The imported (uncleaned) spectrum. */
+  get raw() { return this.doc.sample.data; }
+  get steps() { return this.doc.steps; }
+  get choices() { return (this.doc.ligand_field && this.doc.ligand_field.choices) || []; }
+}
+/** A copy of document `d` that `change` edits (parts copied one level deep; data arrays shared). */
+function copyDoc(d, change) {
+  const doc = {
+    ...d, steps: [...d.steps], bands: { ...d.bands }, notices: [...(d.notices || [])],
+    sample: { ...d.sample, display: { ...d.sample.display }, source: { ...d.sample.source } },
+    ligand_field: d.ligand_field && { ...d.ligand_field, choices: [...(d.ligand_field.choices || [])] },
+  };
+  change(doc);
+  return doc;
+}
+/** Replaces `s.doc` by an edited copy; returns the sample. */
+function withDoc(s, change) {
+  s.doc = copyDoc(s.doc, change);
+  return s;
+}
+
 // ---------- undo history ----------
-// Each entry is a snapshot of the sample list (the data arrays are never
-// mutated, so a snapshot copies only the small per-sample records).
+// Each entry is a snapshot of the sample list (documents and data arrays are
+// never mutated, so a snapshot copies only the small per-sample records).
 const history = { past: [], future: [] };
-const snapshot = () => state.samples.map((s) => ({ ...s }));
+const snapshot = () => state.samples.map((s) => Object.assign(Object.create(Sample.prototype), s));
 function edit(change) {
   history.past.push(snapshot());
   if (history.past.length > 200) history.past.shift();

@@ -41,25 +41,23 @@ async function importBytes(bytes, name, options) {
   }
 }
 
-function addReport(report, fileName, options, bytes, replaceIds = []) {
-  const added = report.spectra.map((sp) => ({
-    id: state.nextId++,
+/** A new sample from spectrum `k` of an import report: a blank document
+ *  (the engine's default band setup) around the imported data. */
+function sampleFrom(report, k, fileName, options) {
+  const sp = report.spectra[k];
+  const doc = wasm_bindgen.new_document({
     name: sp.name && sp.name !== fileName ? sp.name : fileName.replace(/\.[a-z0-9]+$/i, ''),
-    file: fileName,
-    wavenumber: sp.wavenumber,
-    values: sp.values,
-    raw: { wavenumber: sp.wavenumber, values: sp.values },
-    processing: null,
-    quantity: sp.quantity,
-    xUnit: sp.x_unit_read,
-    saturated: sp.saturated || [],
+    source: { file_name: fileName, spectrum: k, import: options },
+    concentration: options.concentration_mol_l, path_length: options.path_length_cm,
     metadata: sp.metadata || {},
-    warnings: [...(report.warnings || []), ...(sp.warnings || [])],
-    concentration: options.concentration_mol_l,
-    path: options.path_length_cm,
-    colour: PALETTE[state.nextColour++ % PALETTE.length],
-    visible: true,
-  }));
+    display: { colour: DEFAULTS.palette[state.nextColour++ % DEFAULTS.palette.length], visible: true },
+    data: { wavenumber: sp.wavenumber, values: sp.values, quantity: sp.quantity, x_unit_read: sp.x_unit_read, saturated: sp.saturated || [] },
+  });
+  return withCleaned(new Sample(doc, { warnings: [...(report.warnings || []), ...(sp.warnings || [])] }));
+}
+
+function addReport(report, fileName, options, bytes, replaceIds = []) {
+  const added = report.spectra.map((_, k) => sampleFrom(report, k, fileName, options));
   edit(() => {
     state.samples = state.samples.filter((s) => !replaceIds.includes(s.id)).concat(added);
   });
@@ -73,9 +71,7 @@ async function openFiles(files) {
     try {
       const bytes = new Uint8Array(await file.arrayBuffer());
       if (/\.json$/i.test(file.name) || bytes[0] === 0x7b) {
-        let doc;
-        try { doc = JSON.parse(new TextDecoder().decode(bytes)); } catch { throw new Error(`${file.name}: not valid JSON, so not a ddlens project`); }
-        try { await loadProject(doc); } catch (e) { throw new Error(`${file.name}: ${e.message}`); }
+        try { await loadProject(new TextDecoder().decode(bytes)); } catch (e) { throw new Error(`${file.name}: ${e.message}`); }
         continue;
       }
       addReport(await importBytes(bytes.slice(), file.name, options), file.name, options, bytes);
@@ -140,17 +136,17 @@ function renderSamples() {
     box.type = 'checkbox';
     box.checked = s.visible;
     box.setAttribute('aria-label', `show ${s.name}`);
-    box.addEventListener('change', () => edit(() => { find(s.id).visible = box.checked; }));
+    box.addEventListener('change', () => edit(() => withDoc(find(s.id), (d) => { d.sample.display.visible = box.checked; })));
     const colour = document.createElement('input');
     colour.type = 'color';
     colour.value = s.colour;
     colour.setAttribute('aria-label', `colour of ${s.name}`);
-    colour.addEventListener('change', () => edit(() => { find(s.id).colour = colour.value; }));
+    colour.addEventListener('change', () => edit(() => withDoc(find(s.id), (d) => { d.sample.display.colour = colour.value; })));
     const name = document.createElement('input');
     name.type = 'text';
     name.value = s.name;
     name.setAttribute('aria-label', 'sample name');
-    name.addEventListener('change', () => edit(() => { find(s.id).name = name.value.trim() || s.name; }));
+    name.addEventListener('change', () => edit(() => withDoc(find(s.id), (d) => { d.sample.name = name.value.trim() || s.name; })));
     const count = document.createElement('span');
     count.className = 'count';
     count.textContent = `${s.wavenumber.length} points`;

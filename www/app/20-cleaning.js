@@ -1,22 +1,24 @@
 // ---------- cleaning ----------
-// A sample keeps the file's data (`raw`) and the steps applied to it
-// (`processing`); `wavenumber`/`values` are recomputed from both, so any
-// step can be changed or dropped and the edit history restores them.
-// Order: crop, smoothing, then baseline subtraction.
-function processed(raw, p) {
-  let x = raw.wavenumber, y = raw.values;
-  if (p && p.crop) {
-    const keep = x.map((v, i) => i).filter((i) => x[i] >= p.crop[0] && x[i] <= p.crop[1]);
-    if (keep.length < 2) throw new Error('the crop range holds fewer than two points');
-    x = keep.map((i) => x[i]);
-    y = keep.map((i) => y[i]);
-  }
-  if (p && p.smooth) y = Array.from(wasm_bindgen.smooth_savgol(Float64Array.from(y), p.smooth.window, p.smooth.order));
-  if (p && p.baseline) {
-    const b = wasm_bindgen.baseline(Float64Array.from(x), Float64Array.from(y), p.baseline);
-    y = y.map((v, i) => v - b[i]);
-  }
-  return { x, y };
+// A sample's document keeps the file's data and the cleaning steps (crop,
+// smoothing, baseline subtraction, in the order the panel lists them); the
+// core applies them (`apply_steps`, the function `ddlens analyze` uses), and
+// the cleaned spectrum on screen (`wavenumber`/`values`) is recomputed from
+// both, so any step can be changed or dropped and the edit history restores them.
+const STEP = {
+  crop: (low, high) => ({ crop: { low, high } }),
+  smooth: (window, order) => ({ smooth: { window, order } }),
+  baseline: (method) => ({ subtract_baseline: { method } }),
+};
+/** The settings of the step of `kind` ('crop', 'smooth', 'subtract_baseline') in a step list, or null. */
+const stepOf = (steps, kind) => { const st = (steps || []).find((x) => x && x[kind]); return st ? st[kind] : null; };
+
+/** The cleaned spectrum of a document's data and steps (throws the core's sentence). */
+const cleaned = (data, steps) => wasm_bindgen.apply_steps(data, steps);
+
+/** Sets the sample's cleaned spectrum from its document; returns the sample. */
+function withCleaned(s) {
+  const out = s.steps.length ? cleaned(s.raw, s.steps) : { wavenumber: s.raw.wavenumber, values: s.raw.values, warnings: [] };
+  return Object.assign(s, { wavenumber: out.wavenumber, values: out.values, cleaningWarnings: out.warnings || [] });
 }
 
 /** The baseline method chosen in the panel (a core `BaselineMethod`), or null; throws on a bad region list. */
@@ -37,19 +39,28 @@ function baselineMethod() {
   return m ? m : null; // 'rubber_band' is a unit variant
 }
 
+/** Fills the cleaning inputs with the engine's defaults (Savitzky–Golay window and order, each baseline method's parameters). */
+function setCleaningDefaults() {
+  const c = DEFAULTS.cleaning;
+  const args = Object.assign({}, ...c.baselines.filter((m) => typeof m === 'object').map((m) => Object.values(m)[0]));
+  for (const [id, v] of [['smooth-window', c.smooth_window], ['smooth-order', c.smooth_order], ['baseline-order', args.order], ['baseline-lambda', args.lambda], ['baseline-p', args.p]]) {
+    if (v != null) $(id).value = v;
+  }
+}
+
 /** Shows only the inputs of the chosen method. */
 function showBaselineInputs() {
   const m = $('baseline-method').value;
   for (const el of $('baseline-row').querySelectorAll('[data-method]')) el.hidden = !el.dataset.method.split(' ').includes(m);
 }
 
-/** The panel's crop and smoothing (without baseline), as a processing record. */
+/** The panel's crop and smoothing (without baseline), as document steps. */
 function panelSteps() {
   const lo = parseFloat($('crop-lo').value), hi = parseFloat($('crop-hi').value);
-  return {
-    crop: Number.isFinite(lo) && Number.isFinite(hi) ? [Math.min(lo, hi), Math.max(lo, hi)] : null,
-    smooth: $('smooth-on').checked ? { window: parseInt($('smooth-window').value, 10), order: parseInt($('smooth-order').value, 10) } : null,
-  };
+  const steps = [];
+  if (Number.isFinite(lo) && Number.isFinite(hi)) steps.push(STEP.crop(Math.min(lo, hi), Math.max(lo, hi)));
+  if ($('smooth-on').checked) steps.push(STEP.smooth(parseInt($('smooth-window').value, 10), parseInt($('smooth-order').value, 10)));
+  return steps;
 }
 
 /** Recomputes the dashed baseline preview from the panel's settings (or clears it). */
@@ -61,8 +72,8 @@ function previewBaseline() {
   try {
     const method = s && baselineMethod();
     if (method) {
-      const d = processed(s.raw, panelSteps());
-      state.baselinePreview = { id: s.id, x: d.x, y: Array.from(wasm_bindgen.baseline(Float64Array.from(d.x), Float64Array.from(d.y), method)) };
+      const d = cleaned(s.raw, panelSteps());
+      state.baselinePreview = { id: s.id, x: d.wavenumber, y: Array.from(wasm_bindgen.baseline(Float64Array.from(d.wavenumber), Float64Array.from(d.values), method)) };
     }
     $('baseline-status').textContent = '';
   } catch (e) {
@@ -87,12 +98,13 @@ function renderCleanTargets() {
 
 function showCleaning() {
   const s = find(Number($('clean-target').value));
-  const p = (s && s.processing) || {};
-  $('crop-lo').value = p.crop ? p.crop[0] : '';
-  $('crop-hi').value = p.crop ? p.crop[1] : '';
-  $('smooth-on').checked = !!p.smooth;
-  if (p.smooth) { $('smooth-window').value = p.smooth.window; $('smooth-order').value = p.smooth.order; }
-  const b = p.baseline;
+  const steps = s ? s.steps : [];
+  const crop = stepOf(steps, 'crop'), smooth = stepOf(steps, 'smooth'), sub = stepOf(steps, 'subtract_baseline');
+  $('crop-lo').value = crop ? crop.low : '';
+  $('crop-hi').value = crop ? crop.high : '';
+  $('smooth-on').checked = !!smooth;
+  if (smooth) { $('smooth-window').value = smooth.window; $('smooth-order').value = smooth.order; }
+  const b = sub && sub.method;
   const kind = b ? (typeof b === 'string' ? b : Object.keys(b)[0]) : '';
   $('baseline-method').value = kind;
   const args = b && typeof b === 'object' ? b[kind] : {};
@@ -103,16 +115,22 @@ function showCleaning() {
   previewBaseline();
 }
 
+/** Applies the panel's steps (or none) to the selected sample through the core; one undoable edit. */
 function applyCleaning(clear = false) {
   const s = find(Number($('clean-target').value));
   if (!s) return;
-  let p, out;
+  let steps, out;
   try {
-    p = clear ? null : { ...panelSteps(), baseline: baselineMethod() };
-    out = processed(s.raw, p);
+    const method = clear ? null : baselineMethod();
+    steps = clear ? [] : [...panelSteps(), ...(method ? [STEP.baseline(method)] : [])];
+    out = cleaned(s.raw, steps);
   } catch (e) {
     say(`${s.name}: ${e.message || e}`);
     return;
   }
-  edit(() => Object.assign(find(s.id), { processing: p, wavenumber: out.x, values: out.y, fit: null, model: null, curves: null }));
+  for (const w of out.warnings || []) say(`${s.name}: ${w.message || w}`, 'info');
+  edit(() => {
+    const t = withDoc(find(s.id), (d) => { d.steps = steps; d.bands.model = null; d.results = null; });
+    Object.assign(t, { wavenumber: out.wavenumber, values: out.values, cleaningWarnings: out.warnings || [], fit: null, model: null, edited: false, curves: null });
+  });
 }

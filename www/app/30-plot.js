@@ -18,14 +18,14 @@ function figure() {
     if (!s.visible) continue;
     const y = shownValues(s);
     if (!y) continue;
-    if (s.processing && plain) lines.push({ x: s.raw.wavenumber, y: s.raw.values, colour: '#858585', width: 1 });
+    if (s.steps.length && plain) lines.push({ x: s.raw.wavenumber, y: s.raw.values, colour: '#858585', width: 1 });
     lines.push({ x: s.wavenumber, y, colour: s.colour, width: 1.5 });
     const bp = state.baselinePreview;
     if (bp && bp.id === s.id && plain) lines.push({ x: bp.x, y: bp.y, colour: '#555555', width: 2, dashed: true });
     const drag = state.drag && state.drag.id === s.id ? state.drag : null;
     const c = drag ? drag.curves : s.curves;
     if (c && plain) {
-      c.components.forEach((v, k) => lines.push({ x: c.x, y: v, colour: PALETTE[(k + 1) % PALETTE.length], fill: true }));
+      c.components.forEach((v, k) => lines.push({ x: c.x, y: v, colour: DEFAULTS.palette[(k + 1) % DEFAULTS.palette.length], fill: true }));
       lines.push({ x: c.x, y: c.total, colour: '#000000', width: 1.5, dashed: true });
       if (c.residual) residuals.push({ x: c.x, y: c.residual, colour: s.colour, width: 1 });
     }
@@ -153,7 +153,7 @@ function resetView() {
 function readout(event) {
   const p = toData(event);
   if (!p || !p.inside) { $('readout').textContent = '\u00a0'; return; }
-  $('readout').textContent = `${p.cm.toFixed(0)} cm⁻¹ · ${(1e7 / p.cm).toFixed(1)} nm · ${(p.cm * EV_PER_CM).toFixed(3)} eV · y = ${p.y.toPrecision(4)}`;
+  $('readout').textContent = `${p.cm.toFixed(0)} cm⁻¹ · ${(1e7 / p.cm).toFixed(1)} nm · ${(p.cm / DEFAULTS.wavenumber_per_ev).toFixed(3)} eV · y = ${p.y.toPrecision(4)}`;
 }
 
 function wirePlot() {
@@ -178,7 +178,7 @@ function wirePlot() {
     const h = handleAt(p);
     if (h) {
       const m = h.sample.model;
-      state.drag = { id: h.sample.id, sample: h.sample, band: h.band, kind: h.kind, model: { ...m, bands: m.bands.map((b) => ({ ...b })), edited: true }, curves: h.sample.curves };
+      state.drag = { id: h.sample.id, sample: h.sample, band: h.band, kind: h.kind, model: { ...m, bands: m.bands.map((b) => ({ ...b })) }, curves: h.sample.curves };
       return;
     }
     drag = { start: p, pan: e.shiftKey, x0: currentX(), clientX: e.clientX, clientY: e.clientY, y0: state.frame.y_range };
@@ -210,7 +210,7 @@ function wirePlot() {
     const d = state.drag;
     if (!d) return;
     state.drag = null;
-    if (d.moved) edit(() => Object.assign(find(d.id), { model: d.model, curves: d.curves }));
+    if (d.moved) edit(() => Object.assign(find(d.id), { model: d.model, curves: d.curves, edited: true }));
   });
   canvas.addEventListener('pointerup', (e) => {
     if (!drag) return;

@@ -1,25 +1,36 @@
 // ---------- bands ----------
-// A sample's band state: `fit` (the last fit: band table, BIC per count),
-// `model` (the bands a refit starts from: the fitted ones or the user's
-// edits, with locks and ties, as a core `BandModel`) and `curves` (total,
-// components, baseline and residual on x, drawn on the plot). Every change
-// goes through edit(), so undo restores all three together.
-const est = (e) => (e && Number.isFinite(e.value) ? (e.sigma != null ? `${+e.value.toPrecision(5)} ± ${+e.sigma.toPrecision(2)}` : `${+e.value.toPrecision(5)}`) : '—');
+// A sample's band state: `model` (the band model on screen: the fitted bands
+// or the user's edits, with locks and ties, as a core `BandModel`; `s.edited`
+// says it was changed since the last fit), `fit` (the last band fit: band
+// table, BIC per count) and `curves` (total, components, baseline and
+// residual on x, drawn on the plot). The model on screen is what the
+// document hands the core (`doc.bands.model`) when the sample is fitted,
+// analysed or saved. Every change goes through edit(), so undo restores
+// them together.
+const est = (e) => fmt(e);
 const selected = () => find(Number($('clean-target').value));
 const LOCKS = [['centre', 'centre'], ['fwhm', 'width'], ['height', 'height']];
 
-/** The options of `ddlens deconvolve` for a band count (0: chosen by BIC up to
- *  `max`); the baseline is left to the core (linear or scattering, by BIC). */
-function bandOptions(n, max = 6) {
-  return { bands: n > 0 ? { fixed: n } : { auto: max }, shape: $('band-shape').value, baseline: null, max_iterations: 200 };
+/** The document's band setup for a band count (0: chosen by BIC up to the engine's limit) and a model (null: automatic). */
+function bandSetup(d, n, model) {
+  return { ...d.bands, count: n > 0 ? { fixed: n } : { auto: DEFAULTS.auto_bands }, shape: $('band-shape').value, model };
 }
 
-/** Runs the pipeline's band fit in the worker (the same core function as the CLI). */
-function runFit(s, label, options, model = null) {
-  return runJob(label, 'fit', {
-    x: Float64Array.from(s.wavenumber), y: Float64Array.from(s.values),
-    request: { quantity: s.quantity, saturated: s.saturated, options, model },
-  });
+/** The model on screen as the core's `BandModel` (no page-only fields), or null. */
+function modelForDoc(s) {
+  const m = s.model;
+  if (!m || !m.bands.length) return null;
+  return { bands: m.bands, ties: m.ties, baseline: m.baseline || (s.fit && s.fit.fit.baseline.model) || DEFAULTS.refit_baseline };
+}
+
+/** Runs `analysis::analyze` on a document in the worker (the function `ddlens analyze --project` runs); returns the analysed document. */
+function runDocument(label, doc) {
+  return runJob(label, 'analyze', { doc });
+}
+
+/** A band fit (no ligand field) of a sample: automatic with `n` bands (0: by BIC) or from `model`. */
+function runFit(s, label, n, model = null) {
+  return runDocument(label, copyDoc(s.doc, (d) => { d.bands = bandSetup(d, n, model); d.ligand_field = null; d.results = null; }));
 }
 
 /** Starting bands from a fit, keeping the locks and ties of `previous` when the count is unchanged. */
@@ -31,17 +42,21 @@ function modelFrom(fit, previous) {
       extra: b.extra ? b.extra.value : null, fixed: same ? [...previous.bands[i].fixed] : [],
     })),
     ties: same ? previous.ties : [],
-    edited: false,
+    baseline: fit.baseline.model,
   };
 }
 
-function storeFit(id, result, previous) {
-  edit(() => {
-    const t = find(id);
-    t.fit = result;
-    t.model = modelFrom(result.fit, previous);
-    t.curves = { x: t.wavenumber, total: result.total, components: result.components, residual: result.residual };
-  });
+/** Sets a sample's band fit, model and curves from the band fit of an analysed document (inside an edit). */
+function takeBandFit(t, results, previous) {
+  t.fit = { fit: results.bands, bic_per_band_count: results.bands.bic_per_band_count, reduced_chi2_per_band_count: results.bands.reduced_chi2_per_band_count };
+  t.model = modelFrom(results.bands, previous);
+  t.edited = false;
+  t.curves = modelCurves(t, t.model);
+  return t.model;
+}
+
+function storeFit(id, doc, previous) {
+  edit(() => { takeBandFit(find(id), doc.results, previous); });
 }
 
 async function fitBands() {
@@ -49,7 +64,7 @@ async function fitBands() {
   if (!s) return;
   const n = parseInt($('band-count').value, 10);
   try {
-    const result = await runFit(s, `Fitting bands to ${s.name}…`, bandOptions(Number.isFinite(n) && n > 0 ? n : 0));
+    const result = await runFit(s, `Fitting bands to ${s.name}…`, Number.isFinite(n) && n > 0 ? n : 0);
     storeFit(s.id, result, s.model);
   } catch (e) {
     jobFailed(s, 'fit', e);
@@ -60,11 +75,9 @@ async function fitBands() {
 async function refitBands() {
   const s = selected();
   if (!s || !s.model || !s.model.bands.length) { say('Add a band or fit bands first: there is nothing to refit.', 'info'); return; }
-  const { bands, ties } = s.model;
   try {
     // A refit keeps the baseline model of the fit it starts from.
-    const baseline = (s.fit && s.fit.fit.baseline.model) || 'linear';
-    const result = await runFit(s, `Refitting ${s.name}…`, bandOptions(bands.length), { bands, ties, baseline });
+    const result = await runFit(s, `Refitting ${s.name}…`, s.model.bands.length, modelForDoc(s));
     storeFit(s.id, result, s.model);
   } catch (e) {
     jobFailed(s, 'refit', e);
@@ -76,9 +89,9 @@ async function compareCounts() {
   const s = selected();
   if (!s) return;
   try {
-    const r = await runFit(s, `Comparing band counts for ${s.name}…`, bandOptions(0));
+    const r = (await runFit(s, `Comparing band counts for ${s.name}…`, 0)).results.bands;
     const chi = new Map(r.reduced_chi2_per_band_count || []);
-    state.bic = { id: s.id, best: r.fit.bands.length, rows: (r.bic_per_band_count || []).map(([n, bic]) => ({ n, bic, chi: chi.get(n) })) };
+    state.bic = { id: s.id, best: r.bands.length, rows: (r.bic_per_band_count || []).map(([n, bic]) => ({ n, bic, chi: chi.get(n) })) };
     renderBic();
   } catch (e) {
     jobFailed(s, 'comparison', e);
@@ -126,11 +139,11 @@ function modelCurves(s, model) {
 function editModel(change) {
   const s = selected();
   if (!s) return;
-  const model = { bands: (s.model ? s.model.bands : []).map((b) => ({ ...b, fixed: [...b.fixed] })), ties: s.model ? [...s.model.ties] : [], edited: true };
+  const model = { bands: (s.model ? s.model.bands : []).map((b) => ({ ...b, fixed: [...b.fixed] })), ties: s.model ? [...s.model.ties] : [], baseline: s.model && s.model.baseline };
   try {
     change(model);
     const curves = modelCurves(s, model);
-    edit(() => Object.assign(find(s.id), { model, curves }));
+    edit(() => Object.assign(find(s.id), { model, curves, edited: true }));
   } catch (e) {
     say(`${s.name}: ${e.message || e}`);
   }
@@ -242,7 +255,7 @@ function renderBands() {
   renderBic();
   $('band-table').hidden = !(m && m.bands.length);
   if ($('band-table').hidden) return;
-  const fit = s.fit && !m.edited ? s.fit.fit : null;
+  const fit = s.fit && !s.edited ? s.fit.fit : null;
   const st = fit && fit.statistics;
   $('fit-stats').textContent = fit
     ? `${s.name}: ${fit.bands.length} bands · χ²ᵥ ${st.reduced_chi2 != null ? st.reduced_chi2.toPrecision(3) : '—'} · R² ${st.r2 != null ? st.r2.toFixed(4) : '—'} · BIC ${st.bic != null ? st.bic.toFixed(1) : '—'} · ${st.evaluations} evaluations`

@@ -1,17 +1,13 @@
 // ---------- ligand field ----------
-// The analysis runs in the worker (core pipeline); predictions for the
-// what-if control and the diagram read-out come from the engine's levels on
-// the main thread. Each sample keeps its own result (`s.lf`) and its
-// per-band choices (`s.lfChoices`), so undo restores both together;
-// `state.lf` is the result of the sample selected in the Cleaning panel.
-const fmt = (e, unit = '') => {
-  if (!e || !Number.isFinite(e.value)) return '—';
-  if (e.sigma == null) return `${+e.value.toPrecision(4)}${unit}`;
-  const d = Math.max(0, 1 - Math.floor(Math.log10(e.sigma)));
-  // Thin-space groups of three in the integer part only (0.00056 stays whole).
-  const group = (v) => v.toFixed(d).replace(/^-?\d+/, (i) => i.replace(/\B(?=(\d{3})+(?!\d))/g, '\u2009'));
-  return `${group(e.value)} ± ${group(e.sigma)}${unit}`;
-};
+// The analysis runs in the worker (`analysis::analyze` on the sample's
+// document, with the band model on screen); predictions for the what-if
+// control and the diagram read-out come from the engine's levels on the main
+// thread. Each sample keeps its analysed document (`s.doc`, its `results`
+// and `ligand_field.choices`) and the page's view of it (`s.lf`: what-if,
+// diagram, read-out), so undo restores them together; `state.lf` is the
+// record of the sample selected in the Cleaning panel.
+/** A value with its σ as the engine writes it (`Estimate`), with a unit, or a dash. */
+const fmt = (e, unit = '') => (e && Number.isFinite(e.value) ? `${wasm_bindgen.format_estimate(e.value, e.sigma == null ? undefined : e.sigma)}${unit}` : '—');
 /** χ², with a rounding-level value of an exactly determined fit shown as 0. */
 const chi2Text = (v) => (v < 1e-9 ? '0' : v.toPrecision(3));
 /** A whole number without a minus sign on zero, or a dash. */
@@ -38,41 +34,68 @@ function fillIons() {
   }
 }
 
-/** The pipeline options for stored controls and per-band choices. */
-function lfOptions(c, choices) {
+/** The document's ligand-field options from the panel's controls and a sample's choices. */
+function ligandFieldOf(c, choices) {
   const cb = parseFloat(c.c_over_b);
-  const n = parseInt(c.band_count, 10);
   return {
-    import: {}, spectrum: 0, range: null,
-    bands: Number.isFinite(n) && n > 0 ? { fixed: n } : { auto: 6 },
-    shape: c.shape || 'gaussian', baseline: null, max_iterations: 200,
-    ligand_field: {
-      ion: c.ion, geometry: c.geometry,
-      c_over_b: Number.isFinite(cb) ? cb : null,
-      free_c: !!c.free_c, spin_forbidden: !!c.spin_forbidden,
-      b0_source: c.b0 || 'common',
-      ligand: c.ligand || null,
-      bands: choices,
-    },
+    ion: c.ion, geometry: c.geometry,
+    c_over_b: Number.isFinite(cb) ? cb : null,
+    free_c: !!c.free_c, spin_forbidden: !!c.spin_forbidden,
+    b0_source: c.b0 || null,
+    ligand: c.ligand || null,
+    choices,
   };
 }
 
-/** Runs the pipeline on one sample; returns its ligand-field record (throws on failure). */
-async function analyse(s, controls, choices) {
-  const spectrum = { name: s.name, wavenumber: Array.from(s.wavenumber), values: Array.from(s.values), quantity: s.quantity, saturated: s.saturated };
-  const analysis = await runJob(`Analysing ${s.name}…`, 'analyze', { spectrum, options: lfOptions(controls, choices) });
-  const ion = [...$('lf-ion').options].find((o) => o.value === controls.ion);
-  return { sampleId: s.id, analysis, controls, n: ion ? Number(ion.dataset.n) : 3, geometry: controls.geometry, whatIf: null };
+/** The panel's controls that a document's options stand for (the inverse of `ligandFieldOf`). */
+function controlsOf(doc) {
+  const lf = doc.ligand_field || {};
+  const count = doc.bands.count || {};
+  return {
+    ion: lf.ion, geometry: lf.geometry, c_over_b: lf.c_over_b != null ? String(lf.c_over_b) : '',
+    free_c: !!lf.free_c, spin_forbidden: !!lf.spin_forbidden, b0: lf.b0_source || '', ligand: lf.ligand || '',
+    band_count: count.fixed != null ? String(count.fixed) : '', shape: doc.bands.shape,
+  };
 }
 
+/** The document to analyse: the sample's own with the panel's options and
+ *  the band model on screen (none: the core deconvolves automatically). */
+function docToAnalyse(s, c, choices) {
+  const n = parseInt(c.band_count, 10);
+  return copyDoc(s.doc, (d) => {
+    d.bands = { ...bandSetup(d, Number.isFinite(n) && n > 0 ? n : 0, modelForDoc(s)), shape: c.shape || d.bands.shape };
+    d.ligand_field = ligandFieldOf(c, choices);
+    d.results = null;
+  });
+}
+
+/** Runs the analysis of one sample in the worker; returns the analysed document (throws on failure). */
+function analyse(s, controls, choices) {
+  return runDocument(`Analysing ${s.name}…`, docToAnalyse(s, controls, choices));
+}
+
+/** The page's view of an analysed document; `model` is the band model on screen it rests on. */
+function lfRecord(s, doc, model) {
+  const ion = [...$('lf-ion').options].find((o) => o.value === doc.ligand_field.ion);
+  return { sampleId: s.id, analysis: doc.results, controls: controlsOf(doc), n: ion ? Number(ion.dataset.n) : null, geometry: doc.ligand_field.geometry, whatIf: null, model };
+}
+
+/** Stores an analysed document on its sample (inside an edit): results, the
+ *  band fit it used (shown in the Bands panel, editable) and the ligand-field view. */
+function takeAnalysis(t, doc) {
+  t.doc = doc;
+  const model = takeBandFit(t, doc.results, t.model);
+  t.lf = lfRecord(t, doc, model);
+  return t;
+}
 
 async function analyzeSample() {
   const s = selectedSample();
   if (!s) { say('Load a spectrum first.', 'info'); return; }
   try {
-    const rec = await analyse(s, lfControls(), s.lfChoices || []);
-    if (!rec.analysis.fit) say(`${s.name}: no ligand-field fit — ${rec.analysis.fit_error}`);
-    edit(() => { find(s.id).lf = rec; });
+    const doc = await analyse(s, lfControls(), s.choices);
+    if (!doc.results.fit) say(`${s.name}: no ligand-field fit — ${doc.results.fit_error}`);
+    edit(() => { takeAnalysis(find(s.id), doc); });
   } catch (e) { jobFailed(s, 'analysis', e); }
 }
 
@@ -80,25 +103,25 @@ async function analyzeAll() {
   const controls = lfControls();
   const done = [];
   for (const s of [...state.samples]) {
-    try { done.push([s.id, await analyse(s, controls, s.lfChoices || [])]); } catch (e) { jobFailed(s, 'analysis', e); if (e.cancelled) break; }
+    try { done.push([s.id, await analyse(s, controls, s.choices)]); } catch (e) { jobFailed(s, 'analysis', e); if (e.cancelled) break; }
   }
-  const noFit = done.filter(([, r]) => !r.analysis.fit).map(([id]) => find(id).name);
+  const noFit = done.filter(([, d]) => !d.results.fit).map(([id]) => find(id).name);
   if (noFit.length) say(`No ligand-field fit for ${noFit.join(', ')}: see each sample's panel.`);
-  if (done.length) edit(() => done.forEach(([id, rec]) => { const t = find(id); if (t) t.lf = rec; }));
+  if (done.length) edit(() => done.forEach(([id, doc]) => { const t = find(id); if (t) takeAnalysis(t, doc); }));
 }
 
-/** Changes one band's choice and reruns the fit with it; undoable with the result. */
+/** Changes one band's choice and reruns the analysis with it; undoable with the result. */
 async function choose(energy, value) {
   const s = selectedSample();
   if (!s || !s.lf) return;
   const choice = value === '' ? null : value === '!x' ? { energy, not_dd: true } : { energy, assign: value };
-  // A new choice replaces any earlier one the pipeline would match to this band (within 3 %, pipeline::CHOICE_MATCH).
-  const choices = (s.lfChoices || []).filter((c) => Math.abs(c.energy - energy) > 0.03 * energy);
+  // A new choice replaces any earlier one the core would match to this band (the engine's matching tolerance).
+  const choices = s.choices.filter((c) => Math.abs(c.energy - energy) > DEFAULTS.choice_match * energy);
   if (choice) choices.push(choice);
   try {
-    const rec = await analyse(s, s.lf.controls, choices);
-    if (!rec.analysis.fit) { say(`${s.name}: no fit with that choice — ${rec.analysis.fit_error}`); renderLf(); return; }
-    edit(() => { const t = find(s.id); t.lfChoices = choices; t.lf = rec; });
+    const doc = await analyse(s, s.lf.controls, choices);
+    if (!doc.results.fit) { say(`${s.name}: no fit with that choice — ${doc.results.fit_error}`); renderLf(); return; }
+    edit(() => { takeAnalysis(find(s.id), doc); });
   } catch (e) { jobFailed(s, 'analysis', e); renderLf(); }
 }
 
@@ -140,11 +163,16 @@ function assignmentRows(lf) {
   });
 }
 
+/** The fit's C/B, or the engine's fallback when the fit has none (d¹, d⁹). */
+const cOverB = (lf) => { const d = lf.analysis.fit.best.derived; return d.c_over_b ? d.c_over_b.value : DEFAULTS.c_over_b_fallback; };
+/** The fit's B, or the engine's stand-in B when the fit has none (d¹, d⁹: the levels do not depend on it). */
+const fittedB = (lf) => { const p = lf.analysis.fit.best.parameters; return p.b ? p.b.value : DEFAULTS.b_stand_in; };
+
 /** The states a band can be given: the engine's levels at the fit, spin-allowed first. */
 function stateOptions(lf) {
-  const p = lf.analysis.fit.best.parameters, d = lf.analysis.fit.best.derived;
-  const b = p.b ? p.b.value : 700;
-  const c = p.c ? p.c.value : (d.c_over_b ? d.c_over_b.value : 4.5) * b;
+  const p = lf.analysis.fit.best.parameters;
+  const b = fittedB(lf);
+  const c = p.c ? p.c.value : cOverB(lf) * b;
   const levels = wasm_bindgen.levels(lf.n, lf.geometry, p.dq.value, b, c);
   const ground = levels[0];
   const rest = levels.slice(1);
@@ -198,10 +226,11 @@ function renderLf() {
     row(alt, [a.delta_chi2.toFixed(2), a.derived.delta.value.toFixed(0), a.parameters.b ? a.parameters.b.value.toFixed(0) : '—',
       a.assignment.map((x) => x.typeset).join(', '), a.warnings[0] || (a.plausible ? 'higher χ² or a lower band left unobserved' : '')]);
   }
-  const x = lf.whatIf ? lf.whatIf.x : d.delta_over_b ? d.delta_over_b.value : 20;
+  // Without a fitted Δ/B (d¹, d⁹) the slider starts in the middle of its range.
+  const x = lf.whatIf ? lf.whatIf.x : d.delta_over_b ? d.delta_over_b.value : (Number($('whatif-x').min) + Number($('whatif-x').max)) / 2;
   $('whatif-x').value = x;
   $('whatif-x-out').textContent = x.toFixed(2);
-  $('whatif-b').value = lf.whatIf ? lf.whatIf.b : p.b ? Math.round(p.b.value) : 700;
+  $('whatif-b').value = lf.whatIf ? lf.whatIf.b : Math.round(fittedB(lf));
   drawDiagram();
 }
 
@@ -219,15 +248,13 @@ function predictions() {
   const { x, b } = lf.whatIf;
   const levels = levelsAt(lf, x, b);
   const ground = levels[0];
-  return levels.slice(1).filter((l) => l.energy < 50000)
+  return levels.slice(1).filter((l) => l.energy < DEFAULTS.max_prediction)
     .map((l) => ({ x: l.energy, sigma: 0, label: l.typeset, dashed: l.multiplicity !== ground.multiplicity }));
 }
 
 /** The engine's levels at Δ/B = x and B = b, at the fit's C/B. */
 function levelsAt(lf, x, b) {
-  const d = lf.analysis.fit.best.derived;
-  const gamma = d.c_over_b ? d.c_over_b.value : 4.5;
-  return wasm_bindgen.levels(lf.n, lf.geometry, x * b / 10, b, gamma * b);
+  return wasm_bindgen.levels(lf.n, lf.geometry, x * b / 10, b, cOverB(lf) * b);
 }
 
 /** The Δ/B and B shown: the what-if point or the fit. */
@@ -247,7 +274,7 @@ function drawDiagram() {
   canvas.width = Math.max(1, Math.round(r.width * dpr));
   canvas.height = Math.max(1, Math.round(r.height * dpr));
   const b = fit.best;
-  const gamma = b.derived.c_over_b ? b.derived.c_over_b.value : 4.5;
+  const gamma = cOverB(lf);
   const { x: xFit, b: bValue } = shownPoint(lf);
   const observed = xFit != null && bValue ? b.assignment.map((a) => [xFit, a.observed / bValue]) : [];
   const max = Math.max(40, Math.ceil((xFit || 0) * 1.25));
@@ -266,7 +293,7 @@ function drawDiagram() {
 const sub = (v, lo, hi) => Math.min(hi, Math.max(lo, v));
 function cursorAt(lf, x, level) {
   const pt = shownPoint(lf);
-  const b = pt.b || 1000;
+  const b = pt.b || DEFAULTS.b_stand_in;
   const levels = levelsAt(lf, x, b);
   const k = sub(level, 0, levels.length - 1);
   lf.cursor = { x, level: k };

@@ -1,8 +1,9 @@
 // ---------- project file, share link, autosave ----------
-// One document holds the whole workspace: the samples' data, the band and
-// ligand-field choices and the view. The analysis itself is recomputed on
-// load (the core is deterministic), so a link restores the same numbers.
-const PROJECT_SCHEMA = 1;
+// One `Project` (the core's schema, made and read by the engine) holds the
+// whole workspace: each sample's document (its data, cleaning steps, band
+// model with locks and ties, ligand-field options and choices, and the
+// results when they rest on what is on screen) and the page's view. A
+// document without results is analysed again on load.
 const AUTOSAVE_KEY = 'ddlens-workspace';
 const LONG_LINK = 32000; // common practice: some browsers and mail tools cut links near 32 000 characters
 
@@ -12,70 +13,85 @@ const lfControls = () => ({
   band_count: $('band-count').value, shape: $('band-shape').value,
 });
 function setLfControls(c) {
-  $('lf-ion').value = c.ion; $('lf-geometry').value = c.geometry; $('lf-cb').value = c.c_over_b || '';
-  $('lf-free-c').checked = !!c.free_c; $('lf-spin-forbidden').checked = !!c.spin_forbidden; $('lf-b0').value = c.b0 || 'common'; $('lf-ligand').value = c.ligand || '';
-  if (c.band_count !== undefined) { $('band-count').value = c.band_count || ''; $('band-shape').value = c.shape || 'gaussian'; }
+  if (c.ion) $('lf-ion').value = c.ion;
+  if (c.geometry) $('lf-geometry').value = c.geometry;
+  $('lf-cb').value = c.c_over_b || '';
+  $('lf-free-c').checked = !!c.free_c; $('lf-spin-forbidden').checked = !!c.spin_forbidden;
+  if (c.b0) $('lf-b0').value = c.b0;
+  $('lf-ligand').value = c.ligand || '';
+  if (c.band_count !== undefined) { $('band-count').value = c.band_count || ''; if (c.shape) $('band-shape').value = c.shape; }
 }
 
-function projectDoc() {
-  const keep = ['name', 'file', 'quantity', 'xUnit', 'saturated', 'metadata', 'concentration', 'path', 'colour', 'visible', 'lfChoices'];
-  const selected = state.samples.findIndex((s) => s.id === Number($('clean-target').value));
-  return {
-    ddlens_project: PROJECT_SCHEMA,
-    program: `ddlens ${wasm_bindgen.version()}`,
-    saved: new Date().toISOString(),
-    samples: state.samples.map((s) => ({
-      ...Object.fromEntries(keep.map((k) => [k, s[k]])), wavenumber: Array.from(s.wavenumber), values: Array.from(s.values),
-      ligand_field: s.lf ? { controls: s.lf.controls } : null,
-      // A cleaned sample also keeps the file's data and its steps, so the
-      // cleaning can still be changed or undone after a reload.
-      ...(s.processing ? { processing: s.processing, raw: { wavenumber: Array.from(s.raw.wavenumber), values: Array.from(s.raw.values) } } : {}),
-    })),
-    selected,
-    bands: { count: $('band-count').value, shape: $('band-shape').value },
-    series_sort: state.lfSort,
-    view: state.view,
-  };
+/** A sample's document as saved: as analysed when its results rest on the
+ *  bands on screen, else with the bands on screen and no results. */
+function savedDoc(s) {
+  if (s.lf && s.lf.model === s.model && s.doc.results) return s.doc;
+  return copyDoc(s.doc, (d) => { d.bands = { ...d.bands, model: modelForDoc(s) }; d.results = null; });
 }
 
-/** Replaces the workspace with a project document; throws an Error with a plain sentence. */
-async function loadProject(doc) {
-  if (!doc || typeof doc !== 'object' || !('ddlens_project' in doc)) throw new Error('this is not a ddlens project');
-  if (!Number.isInteger(doc.ddlens_project) || doc.ddlens_project < 1) throw new Error('the project names no valid schema version');
-  if (doc.ddlens_project > PROJECT_SCHEMA) throw new Error(`the project was saved by a newer ddlens (schema ${doc.ddlens_project}); this page reads schema ${PROJECT_SCHEMA}`);
-  const ok = (a) => Array.isArray(a) && a.every(Number.isFinite);
-  if (!Array.isArray(doc.samples) || doc.samples.some((s) => !ok(s.wavenumber) || !ok(s.values) || s.wavenumber.length !== s.values.length)) {
-    throw new Error('the project is damaged: a sample has missing or unequal data');
-  }
-  const rawOf = (s) => (s.processing && s.raw && ok(s.raw.wavenumber) && ok(s.raw.values) && s.raw.wavenumber.length === s.raw.values.length
-    ? { raw: s.raw, processing: s.processing } : { raw: { wavenumber: s.wavenumber, values: s.values }, processing: null });
-  edit(() => {
-    state.samples = doc.samples.map((s) => ({
-      ...s, id: state.nextId++, ...rawOf(s), fit: null, lf: null, lfChoices: s.lfChoices || [],
-      saturated: s.saturated || [], metadata: s.metadata || {}, warnings: [], colour: s.colour || PALETTE[state.nextColour++ % PALETTE.length], visible: s.visible !== false,
-    }));
+/** The workspace as the JSON text of a `Project` (unchecked: `project_to_json` makes the file). */
+function workspaceJson() {
+  const active = state.samples.findIndex((s) => s.id === Number($('clean-target').value));
+  return JSON.stringify({
+    ddlens_project: DEFAULTS.schema, program: `ddlens ${wasm_bindgen.version()}`, saved: new Date().toISOString(),
+    samples: state.samples.map(savedDoc),
+    active: active >= 0 ? active : null,
+    page: { view: { x: state.view.x, y: state.view.y, nm_bottom: state.view.nmBottom, y_mode: state.view.yMode }, series_sort: state.lfSort },
   });
-  if (doc.view) Object.assign(state.view, doc.view);
-  if (doc.series_sort) state.lfSort = doc.series_sort;
-  if (doc.bands) { $('band-count').value = doc.bands.count || ''; $('band-shape').value = doc.bands.shape || 'gaussian'; }
-  // Each sample's analysis is recomputed from its stored controls and choices
-  // (an older project kept one `ligand_field` for one sample).
-  const lfOf = (i) => (doc.samples[i].ligand_field || (doc.ligand_field && doc.ligand_field.sample === i ? doc.ligand_field : null));
-  for (const [i, s] of state.samples.entries()) {
-    const lf = lfOf(i);
-    if (!lf) continue;
-    try { s.lf = await analyse(s, lf.controls, s.lfChoices); } catch (e) { jobFailed(s, 'analysis', e); }
+}
+/** The workspace as a project file's text, written by the core. */
+const projectText = () => wasm_bindgen.project_to_json(workspaceJson());
+
+/** A page sample from a loaded document: its cleaned spectrum, and its band fit and analysis when it carries results. */
+function sampleFromDoc(doc) {
+  const s = new Sample(doc);
+  if (!doc.sample.display.colour) withDoc(s, (d) => { d.sample.display.colour = DEFAULTS.palette[state.nextColour++ % DEFAULTS.palette.length]; });
+  withCleaned(s);
+  const fresh = doc.results && doc.program.endsWith(wasm_bindgen.version());
+  if (fresh) {
+    takeBandFit(s, doc.results, doc.bands.model);
+    if (doc.ligand_field) s.lf = lfRecord(s, doc, s.model);
+  } else if (doc.bands.model) {
+    Object.assign(s, { model: doc.bands.model, edited: true });
+    s.curves = modelCurves(s, s.model);
+  }
+  return s;
+}
+
+/** Replaces the workspace with a project (JSON text). The core validates it
+ *  completely first: on any error (a sentence naming the field) nothing is loaded. */
+async function loadProject(text) {
+  const { project, notices } = JSON.parse(wasm_bindgen.project_from_json(text));
+  const samples = project.samples.map(sampleFromDoc);
+  edit(() => { state.samples = samples; });
+  for (const n of notices || []) say(String(n), 'info');
+  const { view, series_sort: sort } = project.page;
+  Object.assign(state.view, { x: view.x, y: view.y, nmBottom: view.nm_bottom, yMode: view.y_mode });
+  state.lfSort = sort;
+  // A document with ligand-field options but no results (or results of another version) is analysed again.
+  for (const s of state.samples) {
+    if (!s.doc.ligand_field || s.lf) continue;
+    const doc = copyDoc(s.doc, (d) => { d.bands = { ...d.bands, model: modelForDoc(s) }; d.results = null; });
+    try { takeAnalysis(s, await runDocument(`Analysing ${s.name}…`, doc)); } catch (e) { jobFailed(s, 'analysis', e); }
   }
   refresh();
-  if (state.samples[doc.selected]) selectSample(state.samples[doc.selected].id);
+  const active = state.samples[project.active];
+  if (active) selectSample(active.id);
 }
 
 let autosaveTimer = null;
 let autosaveWarned = false;
+/** Keeps the workspace in the browser's storage, 300 ms after the last change;
+ *  the core writes the project text in the worker, off the main thread. */
 function autosaveSoon() {
   clearTimeout(autosaveTimer);
-  autosaveTimer = setTimeout(() => {
-    try { localStorage.setItem(AUTOSAVE_KEY, JSON.stringify(projectDoc())); } catch (e) {
+  autosaveTimer = setTimeout(async () => {
+    let text;
+    try { text = await worker.run('project', { text: workspaceJson() }); } catch (e) {
+      if (!e.cancelled) say(`The workspace could not be kept: ${e.message || e}`);
+      return;
+    }
+    try { localStorage.setItem(AUTOSAVE_KEY, text); } catch (e) {
       if (!autosaveWarned) say('This browser refused to keep the workspace (storage full or disabled): save the project file to keep your work.');
       autosaveWarned = true;
     }
@@ -91,7 +107,7 @@ const fromB64url = (text) => Uint8Array.from(atob(text.replace(/-/g, '+').replac
 const pipe = async (bytes, stream) => new Uint8Array(await new Response(new Blob([bytes]).stream().pipeThrough(stream)).arrayBuffer());
 
 async function shareLink() {
-  const data = toB64url(await pipe(new TextEncoder().encode(JSON.stringify(projectDoc())), new CompressionStream('deflate-raw')));
+  const data = toB64url(await pipe(new TextEncoder().encode(projectText()), new CompressionStream('deflate-raw')));
   const url = `${location.href.split('#')[0]}#project=${data}`;
   $('share-box').hidden = false;
   $('share-output').value = url;
@@ -102,17 +118,17 @@ async function shareLink() {
 
 async function openShareLink() {
   const data = location.hash.slice('#project='.length);
-  let doc;
+  let text;
   try {
-    doc = JSON.parse(new TextDecoder().decode(await pipe(fromB64url(data), new DecompressionStream('deflate-raw'))));
+    text = new TextDecoder('utf-8', { fatal: true }).decode(await pipe(fromB64url(data), new DecompressionStream('deflate-raw')));
   } catch {
     throw new Error('The share link is damaged or incomplete: nothing was loaded.');
   }
-  await loadProject(doc);
+  try { await loadProject(text); } catch (e) { throw new Error(`The share link is damaged or incomplete (${e.message || e}): nothing was loaded.`); }
 }
 
 function saveProject() {
-  download(new Blob([JSON.stringify(projectDoc())], { type: 'application/json' }), `${baseName()}.ddlens.json`);
+  download(new Blob([projectText()], { type: 'application/json' }), `${baseName()}.ddlens.json`);
 }
 
 async function startFresh() {

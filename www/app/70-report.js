@@ -7,15 +7,24 @@ const CAUTION = 'Results are model estimates: a ligand-field fit can match the n
 /** A band-model baseline as serde writes it ("linear", {polynomial: 2}) in words. */
 const baselineText = (m) => (typeof m === 'string' ? m.replace(/-/g, ' ') : `polynomial of order ${m && m.polynomial}`);
 
+/** A cleaning step in words. */
+function stepText(st) {
+  const [kind, v] = Object.entries(st)[0];
+  if (kind === 'crop') return `cropped to ${v.low}–${v.high} cm⁻¹`;
+  if (kind === 'smooth') return `Savitzky–Golay smoothing (window ${v.window}, order ${v.order})`;
+  const m = v.method;
+  return `baseline subtracted (${typeof m === 'string' ? m.replace(/_/g, ' ') : Object.keys(m)[0].replace(/_/g, ' ')})`;
+}
+
 /** Everything the report shows, as plain data (null without a fit). */
 function reportData() {
   const s = selectedSample();
   const lf = state.lf;
   if (!s || !lf || !lf.analysis.fit) return null;
   const a = lf.analysis, best = a.fit.best, d = best.derived, c = lf.controls;
-  const opts = lfOptions(c, s.lfChoices || []);
+  const setup = s.doc.bands;
   const cb = parseFloat(c.c_over_b);
-  const choices = (s.lfChoices || []).map((x) => `${x.energy.toFixed(0)} cm⁻¹ → ${x.not_dd ? 'not d–d' : x.assign}`);
+  const choices = s.choices.map((x) => `${x.energy.toFixed(0)} cm⁻¹ → ${x.not_dd ? 'not d–d' : x.assign}`);
   return {
     title: `Ligand-field analysis of ${s.name}`,
     date: new Date().toISOString(),
@@ -24,11 +33,12 @@ function reportData() {
     method: [
       ['configuration and site', `d${lf.n} ${lf.geometry} (${c.ion})`],
       ['model', 'exact dⁿ levels in a cubic field, H = Dq·V + B·K_B + C·K_C (Tanabe & Sugano 1954); no spin–orbit coupling or low-symmetry splitting'],
-      ['C/B', c.free_c ? 'fitted (free)' : Number.isFinite(cb) ? `held at ${cb} (given)` : `held at ${d.c_over_b ? d.c_over_b.value.toFixed(3) : '4.5'} (the free ion's C₀/B₀)`],
+      ['C/B', c.free_c ? 'fitted (free)' : Number.isFinite(cb) ? `held at ${cb} (given)` : `held at ${cOverB(lf).toFixed(3)} (the free ion's C₀/B₀)`],
       ['B₀ for β', d.b0 ? `${d.b0} cm⁻¹, ${d.b0_source}` : 'none known'],
       ['spin-forbidden transitions', c.spin_forbidden ? 'considered' : 'considered only for narrow bands or chosen states'],
-      ['bands', `${opts.bands.fixed ? `${opts.bands.fixed} (fixed)` : 'count chosen by BIC (up to 6)'}, ${opts.shape} shape, ${baselineText(a.bands.baseline.model)} baseline${opts.baseline == null ? ' (linear or scattering, chosen by BIC)' : ''}, points weighted by their share of the wavenumber axis`],
-      ['band position uncertainty', 'fitted σ combined with 0.5 % of the energy (band-shape allowance)'],
+      ['bands', `${setup.model ? `${setup.model.bands.length} as set in the Bands panel (${setup.model.bands.filter((b) => b.fixed.length).length} with locked values)` : setup.count.fixed ? `${setup.count.fixed} (fixed)` : `count chosen by BIC (up to ${setup.count.auto})`}, ${setup.shape} shape, ${baselineText(a.bands.baseline.model)} baseline${setup.baseline == null && !setup.model ? ` (${DEFAULTS.baseline_candidates.map(baselineText).join(' or ')}, chosen by BIC)` : ''}, points weighted by their share of the wavenumber axis`],
+      ['band position uncertainty', `fitted σ combined with ${100 * DEFAULTS.position_allowance} % of the energy (band-shape allowance)`],
+      ['cleaning', s.steps.length ? s.steps.map(stepText).join('; ') : 'none (the file\'s data)'],
       ['assignment', choices.length ? `search with the chosen bands fixed: ${choices.join('; ')}` : 'automatic search over the candidate transitions'],
     ],
     bands: a.bands.bands.map((b) => ({ centre: b.centre, centre_nm: b.centre_nm, fwhm: b.fwhm, height: b.height, area: b.area, shape: b.shape })),

@@ -69,17 +69,20 @@ async function main() {
   wasmModule = await loadModule();
   await wasm_bindgen({ module_or_path: wasmModule });
   $('version').textContent = wasm_bindgen.version();
+  DEFAULTS = wasm_bindgen.defaults();
+  setCleaningDefaults();
   wireLf();
   wireReport();
   worker = startWorker(wasmModule);
   await worker.ready;
   // A share link wins over the autosaved workspace, which wins over the demo.
   let saved = null;
-  try { saved = JSON.parse(localStorage.getItem(AUTOSAVE_KEY) || 'null'); } catch { saved = null; }
+  try { saved = localStorage.getItem(AUTOSAVE_KEY); } catch { saved = null; }
   if (location.hash.startsWith('#project=')) {
     try { await openShareLink(); } catch (e) { say(e.message); }
-  } else if (saved && Array.isArray(saved.samples) && saved.samples.length) {
-    try { await loadProject(saved); say('The previous workspace was restored (Start fresh clears it).', 'info'); } catch (e) { say(`The saved workspace could not be restored: ${e.message}`); await loadDemo(); }
+  } else if (saved) {
+    try { await loadProject(saved); say('The previous workspace was restored (Start fresh clears it).', 'info'); } catch (e) { say(`The saved workspace could not be restored: ${e.message}`); }
+    if (!state.samples.length) await loadDemo();
   } else {
     await loadDemo();
   }
