@@ -12,6 +12,8 @@
 //!   the y quantity (T, %T, log ε → A or ε);
 //! - [`assemble`] sorts, averages duplicate x, flags saturation;
 //! - [`project`] recognises the saved-analysis JSON envelope;
+//! - [`csv`] writes the text cells of ddlens's CSV exports (formula starts
+//!   neutralised);
 //!
 //! Readers produce [`RawSpectrum`]s in file units; `assemble` makes them
 //! [`Spectrum`]s. Nothing here panics on any input: every failure is an
@@ -35,6 +37,7 @@
 
 pub mod asdf;
 mod assemble;
+pub mod csv;
 pub mod delimited;
 mod error;
 pub mod jcamp;
