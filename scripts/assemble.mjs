@@ -1,8 +1,10 @@
-// Assembles dist/site/ (index.html + JS + wasm, for any static host) and
-// dist/ddlens.html (one file: glue and app inline, wasm as base64) from
-// www/ and the wasm-bindgen output in dist/pkg/. Each inline script and
-// style gets a sha256 hash in the Content-Security-Policy, so the page
-// allows nothing it does not carry.
+// Assembles dist/site/ (index.html + worker + wasm, for any static host) and
+// dist/ddlens.html (one file: wasm as base64) from www/ and the wasm-bindgen
+// output in dist/pkg/. Both pages carry the glue and the app inline, each
+// script and inline style with its sha256 hash in the Content-Security-Policy,
+// so a page runs no script it does not carry. (Hashes of external scripts,
+// CSP Level 3, would need Firefox 116 and Safari 15.6, per MDN's
+// browser-compat-data: later than the engine's own floor in README.md.)
 import { createHash } from 'node:crypto';
 import { mkdirSync, readFileSync, readdirSync, rmSync, writeFileSync, copyFileSync, statSync } from 'node:fs';
 
@@ -32,32 +34,40 @@ for (const [name, text] of [['glue', glue], ['app', app], ['worker', worker]]) {
   if (/<\/script/i.test(text)) throw new Error(`${name} contains '</script' and cannot be inlined`);
 }
 
+const hash = (text) => `sha256-${createHash('sha256').update(text, 'utf8').digest('base64')}`;
+const source = (text) => `'${hash(text)}'`;
+
 // style-src-attr: plotters measures text by giving a <span> a style attribute
 // (plotters/src/style/font/web.rs); style attributes cannot run script.
-const common = "default-src 'none'; base-uri 'none'; form-action 'none'; img-src 'self' data: blob:; style-src-attr 'unsafe-inline'";
+// No image is loaded (figures are drawn on a canvas or inline SVG), so img-src
+// stays at default-src 'none'; the figure exports are downloads of blob: URLs,
+// which no fetch directive governs.
+const common = "default-src 'none'; base-uri 'none'; form-action 'none'; style-src-attr 'unsafe-inline'";
+const scriptSrc = `script-src ${source(glue)} ${source(app)} 'wasm-unsafe-eval'`;
 
-// The static site.
+// Both pages: the glue (with `before` ahead of it) and the app inline.
+const inlineScripts = (page, before = '') => page
+  .replace('<script src="ddlens_glue.js"></script>', () => `${before}<script id="glue">${glue}</script>`)
+  .replace('<script src="app.js"></script>', () => `<script>${app}</script>`);
+
+// The static site. The worker is one file (the glue, then worker.js, as the
+// single file's blob), so it loads no script of its own and works the same
+// when the host sends this policy with every file.
 rmSync('dist/site', { recursive: true, force: true });
 mkdirSync('dist/site', { recursive: true });
-const siteCsp = `${common}; script-src 'self' 'wasm-unsafe-eval'; style-src 'self'; worker-src 'self' blob:; connect-src 'self'`;
-writeFileSync('dist/site/index.html', html.replace('@CSP@', siteCsp));
+const siteCsp = `${common}; ${scriptSrc}; style-src 'self'; worker-src 'self'; connect-src 'self'`;
+writeFileSync('dist/site/index.html', inlineScripts(html.replace('@CSP@', siteCsp)));
 writeFileSync('dist/site/style.css', css);
-writeFileSync('dist/site/app.js', app);
-writeFileSync('dist/site/worker.js', worker);
-writeFileSync('dist/site/ddlens_glue.js', glue);
+writeFileSync('dist/site/worker.js', `${glue}\n${worker}`);
 copyFileSync('dist/pkg/ddlens_glue_bg.wasm', 'dist/site/ddlens_bg.wasm');
 
-// The single file.
-const hash = (text) => `'sha256-${createHash('sha256').update(text, 'utf8').digest('base64')}'`;
-const glueTag = `<script id="glue">${glue}</script>`;
-const appTag = `<script>${app}</script>`;
-const singleCsp = `${common}; script-src ${hash(glue)} ${hash(app)} 'wasm-unsafe-eval'; style-src ${hash(css)}; worker-src blob:`;
-const single = html
+// The single file. The worker is made from the inline glue and worker source
+// as a blob: URL.
+const singleCsp = `${common}; ${scriptSrc}; style-src ${source(css)}; worker-src blob:`;
+const embedded = `<script id="wasm-b64" type="application/octet-stream">${wasm.toString('base64')}</script>\n` +
+  `<script id="worker-src" type="text/plain">${worker}</script>\n`;
+const single = inlineScripts(html
   .replace('@CSP@', singleCsp)
-  .replace('<link rel="stylesheet" href="style.css">', () => `<style>${css}</style>`)
-  .replace('<script src="ddlens_glue.js"></script>', () =>
-    `<script id="wasm-b64" type="application/octet-stream">${wasm.toString('base64')}</script>\n` +
-    `<script id="worker-src" type="text/plain">${worker}</script>\n${glueTag}`)
-  .replace('<script src="app.js"></script>', () => appTag);
+  .replace('<link rel="stylesheet" href="style.css">', () => `<style>${css}</style>`), embedded);
 writeFileSync('dist/ddlens.html', single);
 console.log(`dist/site/ and dist/ddlens.html (${(statSync('dist/ddlens.html').size / 1024).toFixed(0)} KiB, wasm ${(wasm.length / 1024).toFixed(0)} KiB)`);

@@ -57,3 +57,36 @@ fn hidden_options_raw_and_savgol_coefficients() {
         Some(2)
     );
 }
+
+#[test]
+fn a_sample_named_like_a_formula_exports_as_text_in_the_spectra_csv() {
+    // OWASP guidance on CSV injection (common practice): a text cell starting
+    // with = + - @ gets a leading ' so that a spreadsheet does not run it.
+    let dir = std::env::temp_dir().join(format!("ddlens-csv-cell-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let input = dir.join("formula-name.csv");
+    let output = dir.join("export.csv");
+    std::fs::write(&input, "nm,=1+1\n400,0.1\n500,0.5\n600,-0.02\n").unwrap();
+    let out = ddlens(&[
+        "import",
+        input.to_str().unwrap(),
+        "--export-csv",
+        output.to_str().unwrap(),
+    ]);
+    let text = std::fs::read_to_string(&output);
+    std::fs::remove_dir_all(&dir).ok();
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let text = text.unwrap();
+    let mut lines = text.lines();
+    assert_eq!(lines.next(), Some("'=1+1 cm-1,'=1+1 Absorbance"));
+    // Numbers are not text cells: a negative absorbance stays a number.
+    let rows: Vec<Vec<f64>> = lines
+        .map(|l| l.split(',').map(|c| c.parse().unwrap()).collect())
+        .collect();
+    assert_eq!(rows.len(), 3);
+    assert_eq!(rows[0][1], -0.02);
+}

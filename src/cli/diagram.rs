@@ -58,7 +58,7 @@ pub fn run(words: &[String]) -> Result<String, CliError> {
         let mut text = String::from("delta_over_b");
         for c in &d.curves {
             text.push(',');
-            text.push_str(&c.label);
+            text.push_str(&ddlens::spectrum::csv::text_cell(&c.label));
         }
         text.push('\n');
         for (i, x) in d.delta_over_b.iter().enumerate() {

@@ -152,17 +152,15 @@ impl<'a> Summary<'a> {
 }
 
 /// Column pairs `name cm-1,name <quantity>`; shorter spectra leave empty cells.
+/// Header cells are text cells ([`spectrum::csv::text_cell`]: a name such as
+/// `=1+1` cannot become a spreadsheet formula).
 fn to_csv(spectra: &[Spectrum]) -> String {
-    let clean = |s: &str| s.replace([',', '\n', '\r'], " ");
     let header: Vec<String> = spectra
         .iter()
         .map(|s| {
-            format!(
-                "{} cm-1,{} {:?}",
-                clean(&s.name),
-                clean(&s.name),
-                s.quantity
-            )
+            let x = spectrum::csv::text_cell(&format!("{} cm-1", s.name));
+            let y = spectrum::csv::text_cell(&format!("{} {:?}", s.name, s.quantity));
+            format!("{x},{y}")
         })
         .collect();
     let mut out = header.join(",");

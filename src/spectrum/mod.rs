@@ -11,6 +11,8 @@
 //! - [`units`] converts the x axis (nm, µm, cm⁻¹, eV, optional air→vacuum) and
 //!   the y quantity (T, %T, log ε → A or ε);
 //! - [`assemble`] sorts, averages duplicate x, flags saturation;
+//! - [`csv`] writes the text cells of ddlens's CSV exports (formula starts
+//!   neutralised);
 //!
 //! Readers produce [`RawSpectrum`]s in file units; `assemble` makes them
 //! [`Spectrum`]s. Nothing here panics on any input: every failure is an
@@ -34,6 +36,7 @@
 
 pub mod asdf;
 mod assemble;
+pub mod csv;
 pub mod delimited;
 mod error;
 pub mod jcamp;
