@@ -1,10 +1,18 @@
 //! Least-squares refinement of one assignment, its uncertainties, derived
 //! numbers, predictions and plausibility checks; and the ranking.
+//!
+//! The refinement is the crate's one Levenberg–Marquardt solver
+//! ([`crate::solver::solve`], the one the band fit and the NIST StRD checks
+//! use): an assignment implements [`LeastSquares`], and θ = (Dq, B, C) is
+//! kept in the physical region θ > 0 by the solver's projected lower bounds.
+//! An assignment without a minimum there (B running to zero) ends on that
+//! bound and is reported with its χ², never as a solution with B ≤ 0.
 
 use super::search::{is_candidate, keys, start_index, Tuple};
 use super::{Assigned, Derived, LfFitError, Parameters, Predicted, Problem, Solution, SpinState};
 use crate::estimate::Estimate;
 use crate::ligand_field::{check_params, model, spin_change, Geometry, Level, Params};
+use crate::solver::{self, LeastSquares, LmOptions};
 use crate::stats::{self, Covariance, ErrorScale};
 use nalgebra::{DMatrix, DVector};
 
@@ -111,52 +119,59 @@ fn evaluate(p: &Problem, t: &Tuple, free: Free, theta: &[f64]) -> Option<Eval> {
     })
 }
 
-/// Levenberg–Marquardt on the few ligand-field parameters.
-fn solve(p: &Problem, t: &Tuple, free: Free, mut theta: Vec<f64>) -> Option<(Vec<f64>, Eval)> {
-    let mut cur = evaluate(p, t, free, &theta)?;
-    let mut chi2 = cur.residual.norm_squared();
-    let mut lambda = 1e-3;
-    for _ in 0..200 {
-        let jt = cur.jacobian.transpose();
-        let h = &jt * &cur.jacobian;
-        let g = &jt * &cur.residual;
-        let mut a = h.clone();
-        for i in 0..a.nrows() {
-            a[(i, i)] += lambda * h[(i, i)].max(1e-12);
-        }
-        let Some(step) = a.cholesky().map(|c| c.solve(&(-&g))) else {
-            lambda *= 10.0;
-            if lambda > 1e12 {
-                break;
-            }
-            continue;
-        };
-        let trial: Vec<f64> = theta.iter().zip(step.iter()).map(|(a, b)| a + b).collect();
-        match evaluate(p, t, free, &trial) {
-            Some(next) if next.residual.norm_squared() <= chi2 => {
-                let new_chi2 = next.residual.norm_squared();
-                let small = step
-                    .iter()
-                    .zip(&trial)
-                    .all(|(s, v)| s.abs() <= 1e-12 * v.abs().max(1.0));
-                let flat = chi2 - new_chi2 <= 1e-15 * (1.0 + chi2);
-                theta = trial;
-                cur = next;
-                chi2 = new_chi2;
-                lambda = (lambda / 3.0).max(1e-12);
-                if small || (flat && lambda < 1e-6) {
-                    break;
-                }
-            }
-            _ => {
-                lambda *= 4.0;
-                if lambda > 1e12 {
-                    break;
-                }
-            }
-        }
+/// One assignment as a least-squares problem for [`crate::solver`]:
+/// residuals (E_calc − E_obs)/σ per assigned band, analytic θ-gradients from
+/// the level derivatives (Hellmann–Feynman, in `ligand_field::model`).
+struct AssignmentProblem<'a> {
+    problem: &'a Problem,
+    tuple: &'a Tuple,
+    free: Free,
+}
+
+impl LeastSquares for AssignmentProblem<'_> {
+    fn residual_count(&self) -> usize {
+        self.tuple.finals.len()
     }
-    Some((theta, cur))
+
+    fn parameter_count(&self) -> usize {
+        self.free.count()
+    }
+
+    fn evaluate(&self, x: &[f64], residuals: &mut [f64], jacobian: Option<&mut [f64]>) -> bool {
+        let Some(ev) = evaluate(self.problem, self.tuple, self.free, x) else {
+            return false;
+        };
+        residuals.copy_from_slice(ev.residual.as_slice());
+        if let Some(jac) = jacobian {
+            // nalgebra stores matrices column-major, the layout the solver wants.
+            jac.copy_from_slice(ev.jacobian.as_slice());
+        }
+        true
+    }
+}
+
+/// Smallest value the solver may give Dq, B or C (cm⁻¹): the physical region
+/// is θ > 0, and a step that would cross zero is projected onto this bound.
+const THETA_FLOOR: f64 = 1e-6;
+
+/// Refines θ from `theta` by the crate's one least-squares solver, kept inside
+/// θ > 0 by its projected bounds; None when the start cannot be evaluated.
+fn solve(p: &Problem, t: &Tuple, free: Free, theta: Vec<f64>) -> Option<(Vec<f64>, Eval)> {
+    let problem = AssignmentProblem {
+        problem: p,
+        tuple: t,
+        free,
+    };
+    let options = LmOptions {
+        ftol: 1e-15,
+        xtol: 1e-12,
+        lower: vec![THETA_FLOOR; free.count()],
+        upper: Vec::new(),
+        ..LmOptions::default()
+    };
+    let report = solver::solve(&problem, &theta, &options, &mut |_| true).ok()?;
+    let ev = evaluate(p, t, free, &report.x)?;
+    Some((report.x, ev))
 }
 
 /// Fits one assignment and builds its solution.

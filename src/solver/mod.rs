@@ -27,8 +27,9 @@
 //! overflows is rejected like one that raises χ². The SVD fallback is
 //! iteration-bounded.
 //!
-//! This is the one least-squares solver of the crate: the band fit and the
-//! NIST StRD checks run through [`solve`].
+//! This is the one least-squares solver of the crate: the band fit
+//! (`bands`), the ligand-field fit (`lf_fit`) and the NIST StRD checks
+//! (`tests/bands_nist.rs`) all run through [`solve`].
 //!
 //! The solver always returns the best point found, with the reason it stopped
 //! and the number of model evaluations; it never turns an iteration limit or
