@@ -11,8 +11,8 @@
 //! must be reproduced to 6 significant digits and the certified standard
 //! deviations to 4. Jacobians are exact, by forward-mode dual numbers.
 
-use ddlens::solver::{self as lm, LeastSquares, LmOptions};
 use ddlens::bands::stats;
+use ddlens::solver::{self as lm, LeastSquares, LmOptions};
 use std::ops::{Add, Div, Mul, Neg, Sub};
 
 const MAX_P: usize = 9;

@@ -536,7 +536,7 @@ fn report_fit(c: &Compiled, report: &lm::LmReport, opts: &FitOptions) -> BandFit
                 .into(),
         );
     }
-    if !report.stop.converged() {
+    if !report.stop.was_successful() {
         warnings.push(format!("the fit did not converge: {}", report.stop));
     }
     // σ of a model parameter and of a derived quantity with gradient in p.
