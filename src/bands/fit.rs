@@ -39,22 +39,61 @@ fn compile<'a>(
     weights: Option<&[f64]>,
     model: &BandModel,
 ) -> Result<Compiled<'a>, BandFitError> {
-    let x_min = x.iter().cloned().fold(f64::INFINITY, f64::min);
-    let x_max = x.iter().cloned().fold(f64::NEG_INFINITY, f64::max);
+    let x_min = x.iter().copied().fold(f64::INFINITY, f64::min);
+    let x_max = x.iter().copied().fold(f64::NEG_INFINITY, f64::max);
     let span = (x_max - x_min).max(f64::MIN_POSITIVE);
+    let (mut params, band_start) = band_params(model, x_min, x_max, span)?;
+    let baseline_start = params.len();
+    for (name, value, lo, hi) in baseline_params(&model.baseline, x, y) {
+        push(&mut params, format!("baseline.{name}"), value, lo, hi);
+    }
+    let tied = tie_targets(model, &band_start, &params)?;
+    let fixed = fixed_params(model, &band_start, params.len())?;
+    let (free_count, free_owner) = link_free(&mut params, &tied, &fixed);
+    let sqrt_w = match weights {
+        Some(w) => w.iter().map(|v| v.sqrt()).collect(),
+        None => vec![1.0; x.len()],
+    };
+    Ok(Compiled {
+        x,
+        y,
+        sqrt_w,
+        shapes: model.bands.iter().map(|b| b.shape).collect(),
+        band_start,
+        baseline: model.baseline,
+        baseline_start,
+        params,
+        free_count,
+        free_owner,
+        x_mid: 0.5 * (x_min + x_max),
+        x_half: 0.5 * span,
+        x_max,
+    })
+}
+
+/// Appends one parameter, free and untied so far.
+fn push(params: &mut Vec<ParamDef>, name: String, value: f64, lower: f64, upper: f64) {
+    params.push(ParamDef {
+        name,
+        value,
+        lower,
+        upper,
+        source: None,
+        offset: 0.0,
+    });
+}
+
+/// Centre, width, height (and the shape's extra) of every band with their
+/// bounds; and where each band's parameters start.
+fn band_params(
+    model: &BandModel,
+    x_min: f64,
+    x_max: f64,
+    span: f64,
+) -> Result<(Vec<ParamDef>, Vec<usize>), BandFitError> {
     let inf = f64::INFINITY;
     let mut params: Vec<ParamDef> = Vec::new();
     let mut band_start = Vec::new();
-    let push = |params: &mut Vec<ParamDef>, name: String, value: f64, lower: f64, upper: f64| {
-        params.push(ParamDef {
-            name,
-            value,
-            lower,
-            upper,
-            source: None,
-            offset: 0.0,
-        });
-    };
     for (b, spec) in model.bands.iter().enumerate() {
         if !(spec.centre >= x_min && spec.centre <= x_max) {
             return Err(BandFitError::BandOutsideRange {
@@ -115,11 +154,15 @@ fn compile<'a>(
             );
         }
     }
-    let baseline_start = params.len();
-    for (name, value, lo, hi) in baseline_params(&model.baseline, x, y) {
-        push(&mut params, format!("baseline.{name}"), value, lo, hi);
-    }
-    // Fixed parameters and ties, then free parameters in order.
+    Ok((params, band_start))
+}
+
+/// For each parameter, the (target, factor, offset) it is tied to, if any.
+fn tie_targets(
+    model: &BandModel,
+    band_start: &[usize],
+    params: &[ParamDef],
+) -> Result<Vec<Option<(usize, f64, f64)>>, BandFitError> {
     let mut tied: Vec<Option<(usize, f64, f64)>> = vec![None; params.len()];
     for tie in &model.ties {
         let (band, to, slot, factor, offset) = match *tie {
@@ -151,7 +194,16 @@ fn compile<'a>(
             }
         }
     }
-    let mut fixed = vec![false; params.len()];
+    Ok(tied)
+}
+
+/// Which parameters the user fixed.
+fn fixed_params(
+    model: &BandModel,
+    band_start: &[usize],
+    count: usize,
+) -> Result<Vec<bool>, BandFitError> {
+    let mut fixed = vec![false; count];
     for (b, spec) in model.bands.iter().enumerate() {
         for name in &spec.fixed {
             let slot = match name.as_str() {
@@ -169,6 +221,16 @@ fn compile<'a>(
             fixed[band_start[b] + slot] = true;
         }
     }
+    Ok(fixed)
+}
+
+/// Gives every free parameter its slot in q and every tied one its target's
+/// slot (factor and offset included); returns the free count and owners.
+fn link_free(
+    params: &mut [ParamDef],
+    tied: &[Option<(usize, f64, f64)>],
+    fixed: &[bool],
+) -> (usize, Vec<usize>) {
     let mut free_owner = Vec::new();
     for i in 0..params.len() {
         if tied[i].is_none() && !fixed[i] {
@@ -176,7 +238,6 @@ fn compile<'a>(
             free_owner.push(i);
         }
     }
-    let free_count = free_owner.len();
     for i in 0..params.len() {
         if let Some((target, factor, offset)) = tied[i] {
             let (tv, ts, to) = (
@@ -193,25 +254,7 @@ fn compile<'a>(
             }
         }
     }
-    let sqrt_w = match weights {
-        Some(w) => w.iter().map(|v| v.sqrt()).collect(),
-        None => vec![1.0; x.len()],
-    };
-    Ok(Compiled {
-        x,
-        y,
-        sqrt_w,
-        shapes: model.bands.iter().map(|b| b.shape).collect(),
-        band_start,
-        baseline: model.baseline,
-        baseline_start,
-        params,
-        free_count,
-        free_owner,
-        x_mid: 0.5 * (x_min + x_max),
-        x_half: 0.5 * span,
-        x_max,
-    })
+    (free_owner.len(), free_owner)
 }
 
 /// Bounds and start of the free parameters q, from the parameters they drive.
