@@ -8,6 +8,7 @@ use super::{
     Coefficient, FitOptions, Progress, Shape, Statistics, Tie, OSCILLATOR_CONSTANT,
 };
 use crate::estimate::Estimate;
+use crate::stats::Covariance;
 
 /// Checks the data: lengths, finiteness, weights, non-constant y.
 pub(super) fn validate(x: &[f64], y: &[f64], weights: Option<&[f64]>) -> Result<(), BandFitError> {
@@ -315,182 +316,35 @@ pub fn fit(
 fn report_fit(c: &Compiled, report: &lm::LmReport, opts: &FitOptions) -> BandFit {
     let m = c.x.len();
     let n = c.free_count;
-    let p = c.expand(&report.x);
     let mut warnings = Vec::new();
-    let include: Vec<bool> = report.at_bound.iter().map(|b| !b).collect();
-    let scale = if opts.absolute_sigma {
-        stats::ErrorScale::Absolute
-    } else {
-        stats::ErrorScale::ReducedChi2 {
-            chi2: report.chi2,
-            points: m,
-            parameters: n,
-        }
+    let u = Uncertainty {
+        c,
+        report,
+        cov: fit_covariance(c, report, opts, &mut warnings),
+        p: c.expand(&report.x),
     };
-    let cov = stats::covariance(&report.jacobian, m, n, &include, scale);
-    if cov.is_none() {
-        warnings
-            .push("the covariance matrix could not be computed; no uncertainties are given".into());
-    }
-    if cov.as_ref().is_some_and(|c| c.rank_deficient) {
-        warnings.push(
-            "some parameters are redundant (singular Jacobian); their uncertainties are not given"
-                .into(),
-        );
-    }
+    let (p, cov) = (&u.p, &u.cov);
     if !report.stop.was_successful() {
         warnings.push(format!("the fit did not converge: {}", report.stop));
     }
-    // σ of a model parameter and of a derived quantity with gradient in p.
-    let grad_q = |gp: &[f64]| -> Vec<f64> {
-        let mut g = vec![0.0; n];
-        for (d, v) in c.params.iter().zip(gp) {
-            if let Some((k, f)) = d.source {
-                g[k] += v * f;
-            }
-        }
-        g
-    };
-    let sigma_of = |i: usize| -> Option<f64> {
-        let (k, _) = c.params[i].source?;
-        if report.at_bound.get(k).copied().unwrap_or(true) {
-            return None;
-        }
-        let mut gp = vec![0.0; p.len()];
-        gp[i] = 1.0;
-        cov.as_ref()?.propagate(&grad_q(&gp))
-    };
-    let est = |i: usize| match sigma_of(i) {
-        Some(s) => Estimate::new(p[i], s),
-        None => Estimate::exact(p[i]),
-    };
-    let mut bands = Vec::new();
-    for (&shape, &s) in c.shapes.iter().zip(&c.band_start) {
-        let extra = if shape.has_extra() { p[s + 3] } else { 0.0 };
-        let area = shapes::area(shape, p[s + 1], p[s + 2], extra);
-        let mut gp = vec![0.0; p.len()];
-        for (slot, idx) in [(1usize, s + 1), (2, s + 2), (3, s + 3)] {
-            if slot == 3 && !shape.has_extra() {
-                continue;
-            }
-            let mut q = [p[s + 1], p[s + 2], extra];
-            let h = 1e-6 * q[slot - 1].abs().max(1e-9);
-            q[slot - 1] += h;
-            let up = shapes::area(shape, q[0], q[1], q[2]);
-            q[slot - 1] -= 2.0 * h;
-            let down = shapes::area(shape, q[0], q[1], q[2]);
-            gp[idx] = (up - down) / (2.0 * h);
-        }
-        let area_sigma = cov.as_ref().and_then(|cv| {
-            let touches_bound = c.params[s..s + 3]
-                .iter()
-                .any(|d| d.source.is_some_and(|(k, _)| report.at_bound[k]));
-            if touches_bound {
-                None
-            } else {
-                cv.propagate(&grad_q(&gp))
-            }
-        });
-        let area_est = area_sigma.map_or(Estimate::exact(area), |sg| Estimate::new(area, sg));
-        let centre = est(s);
-        let centre_nm = if centre.value > 0.0 {
-            let nm = 1e7 / centre.value;
-            centre.sigma.map_or(Estimate::exact(nm), |sg| {
-                Estimate::new(nm, nm * sg / centre.value)
-            })
-        } else {
-            Estimate::exact(0.0)
-        };
-        let at_bound: Vec<String> = c.params[s..s + if shape.has_extra() { 4 } else { 3 }]
-            .iter()
-            .filter(|d| d.source.is_some_and(|(k, _)| report.at_bound[k]))
-            .map(|d| d.name.clone())
-            .collect();
-        for name in &at_bound {
-            warnings.push(format!("{name} ended on its bound; it has no uncertainty"));
-        }
-        let height = p[s + 2];
-        let (oscillator_strength, class) = if opts.molar_absorptivity {
-            let fval = OSCILLATOR_CONSTANT * area;
-            let f_est = area_est.sigma.map_or(Estimate::exact(fval), |sg| {
-                Estimate::new(fval, OSCILLATOR_CONSTANT * sg)
-            });
-            (Some(f_est), Some(band_class(height).to_string()))
-        } else {
-            (None, None)
-        };
-        bands.push(BandResult {
-            shape,
-            centre,
-            centre_nm,
-            fwhm: est(s + 1),
-            height: est(s + 2),
-            extra: shape.has_extra().then(|| est(s + 3)),
-            area: area_est,
-            maximum: (shape == Shape::SkewGaussian)
-                .then(|| shapes::skew_maximum(p[s], p[s + 1], p[s + 2], extra).0),
-            oscillator_strength,
-            class,
-            at_bound,
-        });
-    }
+    let bands: Vec<BandResult> = c
+        .shapes
+        .iter()
+        .zip(&c.band_start)
+        .map(|(&shape, &s)| band_result(&u, shape, s, opts, &mut warnings))
+        .collect();
     let coefficients = (c.baseline_start..p.len())
         .map(|i| Coefficient {
             name: c.params[i].name.trim_start_matches("baseline.").to_string(),
             value: p[i],
-            sigma: sigma_of(i),
+            sigma: u.sigma_of(i),
         })
         .collect();
-    // Goodness of fit.
-    let wsum: f64 = c.sqrt_w.iter().map(|w| w * w).sum();
-    let ybar = if wsum > 0.0 {
-        c.y.iter()
-            .zip(&c.sqrt_w)
-            .map(|(y, w)| w * w * y)
-            .sum::<f64>()
-            / wsum
-    } else {
-        0.0
-    };
-    let ydev: f64 =
-        c.y.iter()
-            .zip(&c.sqrt_w)
-            .map(|(y, w)| w * w * (y - ybar).powi(2))
-            .sum();
-    let g = stats::goodness(report.chi2, m, n, ydev);
+    let g = stats::goodness(report.chi2, m, n, weighted_deviation(c));
     let correlation = cov.as_ref().map(|cv| cv.correlation()).unwrap_or_default();
-    let free_parameters: Vec<String> = {
-        let mut names = vec![String::new(); n];
-        for d in &c.params {
-            if let Some((k, f)) = d.source {
-                if f == 1.0 && d.offset == 0.0 && names[k].is_empty() {
-                    names[k] = d.name.clone();
-                }
-            }
-        }
-        names
-    };
-    for i in 0..correlation.len() {
-        for j in 0..i {
-            if correlation[i][j].abs() > 0.95 {
-                warnings.push(format!(
-                    "{} and {} are strongly correlated (ρ = {:.3})",
-                    free_parameters[i], free_parameters[j], correlation[i][j]
-                ));
-            }
-        }
-    }
-    let narrowest = bands
-        .iter()
-        .map(|b| b.fwhm.value)
-        .fold(f64::INFINITY, f64::min);
-    let spacing = 2.0 * c.x_half / (m.max(2) - 1) as f64;
-    if narrowest.is_finite() && narrowest / spacing > 10.0 {
-        warnings.push(format!(
-            "about {:.0} points per band width: neighbouring residuals are correlated, so the error bars are optimistic",
-            narrowest / spacing
-        ));
-    }
+    let free_parameters = free_names(c);
+    correlation_warnings(&correlation, &free_parameters, &mut warnings);
+    sampling_warning(c, &bands, &mut warnings);
     BandFit {
         bands,
         baseline: BaselineResult {
@@ -516,6 +370,218 @@ fn report_fit(c: &Compiled, report: &lm::LmReport, opts: &FitOptions) -> BandFit
         free_parameters,
         correlation,
         warnings,
+    }
+}
+
+/// The covariance of the free parameters (parameters on a bound left out),
+/// with a warning when it cannot be computed or is rank-deficient.
+fn fit_covariance(
+    c: &Compiled,
+    report: &lm::LmReport,
+    opts: &FitOptions,
+    warnings: &mut Vec<String>,
+) -> Option<Covariance> {
+    let (m, n) = (c.x.len(), c.free_count);
+    let include: Vec<bool> = report.at_bound.iter().map(|b| !b).collect();
+    let scale = if opts.absolute_sigma {
+        stats::ErrorScale::Absolute
+    } else {
+        stats::ErrorScale::ReducedChi2 {
+            chi2: report.chi2,
+            points: m,
+            parameters: n,
+        }
+    };
+    let cov = stats::covariance(&report.jacobian, m, n, &include, scale);
+    if cov.is_none() {
+        warnings
+            .push("the covariance matrix could not be computed; no uncertainties are given".into());
+    }
+    if cov.as_ref().is_some_and(|c| c.rank_deficient) {
+        warnings.push(
+            "some parameters are redundant (singular Jacobian); their uncertainties are not given"
+                .into(),
+        );
+    }
+    cov
+}
+
+/// The expanded parameters p with what is needed to give each its σ.
+struct Uncertainty<'a> {
+    c: &'a Compiled<'a>,
+    report: &'a lm::LmReport,
+    cov: Option<Covariance>,
+    p: Vec<f64>,
+}
+
+impl Uncertainty<'_> {
+    /// A gradient in p carried to the free parameters q.
+    fn grad_q(&self, gp: &[f64]) -> Vec<f64> {
+        let mut g = vec![0.0; self.c.free_count];
+        for (d, v) in self.c.params.iter().zip(gp) {
+            if let Some((k, f)) = d.source {
+                g[k] += v * f;
+            }
+        }
+        g
+    }
+
+    /// σ of model parameter i; None when it is fixed or drives a parameter on a bound.
+    fn sigma_of(&self, i: usize) -> Option<f64> {
+        let (k, _) = self.c.params[i].source?;
+        if self.report.at_bound.get(k).copied().unwrap_or(true) {
+            return None;
+        }
+        let mut gp = vec![0.0; self.p.len()];
+        gp[i] = 1.0;
+        self.cov.as_ref()?.propagate(&self.grad_q(&gp))
+    }
+
+    fn est(&self, i: usize) -> Estimate {
+        match self.sigma_of(i) {
+            Some(s) => Estimate::new(self.p[i], s),
+            None => Estimate::exact(self.p[i]),
+        }
+    }
+}
+
+/// One band's result: parameters, area (σ by central differences of the
+/// analytic area), position in nm, oscillator strength and class.
+fn band_result(
+    u: &Uncertainty,
+    shape: Shape,
+    s: usize,
+    opts: &FitOptions,
+    warnings: &mut Vec<String>,
+) -> BandResult {
+    let p = &u.p;
+    let extra = if shape.has_extra() { p[s + 3] } else { 0.0 };
+    let area = shapes::area(shape, p[s + 1], p[s + 2], extra);
+    let mut gp = vec![0.0; p.len()];
+    for (slot, idx) in [(1usize, s + 1), (2, s + 2), (3, s + 3)] {
+        if slot == 3 && !shape.has_extra() {
+            continue;
+        }
+        let mut q = [p[s + 1], p[s + 2], extra];
+        let h = 1e-6 * q[slot - 1].abs().max(1e-9);
+        q[slot - 1] += h;
+        let up = shapes::area(shape, q[0], q[1], q[2]);
+        q[slot - 1] -= 2.0 * h;
+        let down = shapes::area(shape, q[0], q[1], q[2]);
+        gp[idx] = (up - down) / (2.0 * h);
+    }
+    let area_sigma = u.cov.as_ref().and_then(|cv| {
+        let touches_bound = u.c.params[s..s + 3]
+            .iter()
+            .any(|d| d.source.is_some_and(|(k, _)| u.report.at_bound[k]));
+        if touches_bound {
+            None
+        } else {
+            cv.propagate(&u.grad_q(&gp))
+        }
+    });
+    let area_est = area_sigma.map_or(Estimate::exact(area), |sg| Estimate::new(area, sg));
+    let centre = u.est(s);
+    let centre_nm = if centre.value > 0.0 {
+        let nm = 1e7 / centre.value;
+        centre.sigma.map_or(Estimate::exact(nm), |sg| {
+            Estimate::new(nm, nm * sg / centre.value)
+        })
+    } else {
+        Estimate::exact(0.0)
+    };
+    let at_bound: Vec<String> = u.c.params[s..s + if shape.has_extra() { 4 } else { 3 }]
+        .iter()
+        .filter(|d| d.source.is_some_and(|(k, _)| u.report.at_bound[k]))
+        .map(|d| d.name.clone())
+        .collect();
+    for name in &at_bound {
+        warnings.push(format!("{name} ended on its bound; it has no uncertainty"));
+    }
+    let height = p[s + 2];
+    let (oscillator_strength, class) = if opts.molar_absorptivity {
+        let fval = OSCILLATOR_CONSTANT * area;
+        let f_est = area_est.sigma.map_or(Estimate::exact(fval), |sg| {
+            Estimate::new(fval, OSCILLATOR_CONSTANT * sg)
+        });
+        (Some(f_est), Some(band_class(height).to_string()))
+    } else {
+        (None, None)
+    };
+    BandResult {
+        shape,
+        centre,
+        centre_nm,
+        fwhm: u.est(s + 1),
+        height: u.est(s + 2),
+        extra: shape.has_extra().then(|| u.est(s + 3)),
+        area: area_est,
+        maximum: (shape == Shape::SkewGaussian)
+            .then(|| shapes::skew_maximum(p[s], p[s + 1], p[s + 2], extra).0),
+        oscillator_strength,
+        class,
+        at_bound,
+    }
+}
+
+/// Σ w (y − ȳ)² with the weighted mean ȳ (for R²).
+fn weighted_deviation(c: &Compiled) -> f64 {
+    let wsum: f64 = c.sqrt_w.iter().map(|w| w * w).sum();
+    let ybar = if wsum > 0.0 {
+        c.y.iter()
+            .zip(&c.sqrt_w)
+            .map(|(y, w)| w * w * y)
+            .sum::<f64>()
+            / wsum
+    } else {
+        0.0
+    };
+    c.y.iter()
+        .zip(&c.sqrt_w)
+        .map(|(y, w)| w * w * (y - ybar).powi(2))
+        .sum()
+}
+
+/// The name of each free parameter: the first parameter it drives unscaled.
+fn free_names(c: &Compiled) -> Vec<String> {
+    let mut names = vec![String::new(); c.free_count];
+    for d in &c.params {
+        if let Some((k, f)) = d.source {
+            if f == 1.0 && d.offset == 0.0 && names[k].is_empty() {
+                names[k] = d.name.clone();
+            }
+        }
+    }
+    names
+}
+
+/// A warning for each pair of free parameters with |ρ| > 0.95.
+fn correlation_warnings(correlation: &[Vec<f64>], names: &[String], warnings: &mut Vec<String>) {
+    for i in 0..correlation.len() {
+        for j in 0..i {
+            if correlation[i][j].abs() > 0.95 {
+                warnings.push(format!(
+                    "{} and {} are strongly correlated (ρ = {:.3})",
+                    names[i], names[j], correlation[i][j]
+                ));
+            }
+        }
+    }
+}
+
+/// A warning when the narrowest band spans more than ten points.
+fn sampling_warning(c: &Compiled, bands: &[BandResult], warnings: &mut Vec<String>) {
+    let m = c.x.len();
+    let narrowest = bands
+        .iter()
+        .map(|b| b.fwhm.value)
+        .fold(f64::INFINITY, f64::min);
+    let spacing = 2.0 * c.x_half / (m.max(2) - 1) as f64;
+    if narrowest.is_finite() && narrowest / spacing > 10.0 {
+        warnings.push(format!(
+            "about {:.0} points per band width: neighbouring residuals are correlated, so the error bars are optimistic",
+            narrowest / spacing
+        ));
     }
 }
 
