@@ -158,13 +158,16 @@ fn band_params(
     Ok((params, band_start))
 }
 
-/// For each parameter, the (target, factor, offset) it is tied to, if any.
+/// A tie of one parameter: (target parameter, factor, offset), value = factor·target + offset.
+type TieLink = (usize, f64, f64);
+
+/// For each parameter, the link it is tied by, if any.
 fn tie_targets(
     model: &BandModel,
     band_start: &[usize],
     params: &[ParamDef],
-) -> Result<Vec<Option<(usize, f64, f64)>>, BandFitError> {
-    let mut tied: Vec<Option<(usize, f64, f64)>> = vec![None; params.len()];
+) -> Result<Vec<Option<TieLink>>, BandFitError> {
+    let mut tied: Vec<Option<TieLink>> = vec![None; params.len()];
     for tie in &model.ties {
         let (band, to, slot, factor, offset) = match *tie {
             Tie::EqualFwhm { band, to } => (band, to, 1, 1.0, 0.0),
@@ -229,7 +232,7 @@ fn fixed_params(
 /// slot (factor and offset included); returns the free count and owners.
 fn link_free(
     params: &mut [ParamDef],
-    tied: &[Option<(usize, f64, f64)>],
+    tied: &[Option<TieLink>],
     fixed: &[bool],
 ) -> (usize, Vec<usize>) {
     let mut free_owner = Vec::new();
