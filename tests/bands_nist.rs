@@ -1,4 +1,4 @@
-//! NIST StRD nonlinear regression problems solved with `ddlens::bands::lm`.
+//! NIST StRD nonlinear regression problems solved with `ddlens::solver`, the one solver of both the band fit and the ligand-field fit.
 //!
 //! Outside source: NIST Statistical Reference Datasets, nonlinear regression
 //! (public domain), the `.dat` files as shipped in the lmfit 1.3.4 sdist
@@ -11,8 +11,8 @@
 //! must be reproduced to 6 significant digits and the certified standard
 //! deviations to 4. Jacobians are exact, by forward-mode dual numbers.
 
-use ddlens::bands::lm::{self, LeastSquares, LmOptions};
 use ddlens::bands::stats;
+use ddlens::solver::{self as lm, LeastSquares, LmOptions};
 use std::ops::{Add, Div, Mul, Neg, Sub};
 
 const MAX_P: usize = 9;

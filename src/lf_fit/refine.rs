@@ -1,10 +1,18 @@
 //! Least-squares refinement of one assignment, its uncertainties, derived
 //! numbers, predictions and plausibility checks; and the ranking.
+//!
+//! The refinement is the crate's one Levenberg–Marquardt solver
+//! ([`crate::solver::solve`], the one the band fit and the NIST StRD checks
+//! use): an assignment implements [`LeastSquares`], and θ = (Dq, B, C) is
+//! kept in the physical region θ > 0 by the solver's projected lower bounds.
+//! An assignment without a minimum there (B running to zero) ends on that
+//! bound and is reported with its χ², never as a solution with B ≤ 0.
 
 use super::search::{is_candidate, keys, start_index, Tuple};
 use super::{Assigned, Derived, LfFitError, Parameters, Predicted, Problem, Solution, SpinState};
 use crate::estimate::Estimate;
 use crate::ligand_field::{check_params, model, spin_change, Geometry, Level, Params};
+use crate::solver::{self, LeastSquares, LmOptions};
 use crate::stats::{self, Covariance, ErrorScale};
 use nalgebra::{DMatrix, DVector};
 
@@ -111,52 +119,59 @@ fn evaluate(p: &Problem, t: &Tuple, free: Free, theta: &[f64]) -> Option<Eval> {
     })
 }
 
-/// Levenberg–Marquardt on the few ligand-field parameters.
-fn solve(p: &Problem, t: &Tuple, free: Free, mut theta: Vec<f64>) -> Option<(Vec<f64>, Eval)> {
-    let mut cur = evaluate(p, t, free, &theta)?;
-    let mut chi2 = cur.residual.norm_squared();
-    let mut lambda = 1e-3;
-    for _ in 0..200 {
-        let jt = cur.jacobian.transpose();
-        let h = &jt * &cur.jacobian;
-        let g = &jt * &cur.residual;
-        let mut a = h.clone();
-        for i in 0..a.nrows() {
-            a[(i, i)] += lambda * h[(i, i)].max(1e-12);
-        }
-        let Some(step) = a.cholesky().map(|c| c.solve(&(-&g))) else {
-            lambda *= 10.0;
-            if lambda > 1e12 {
-                break;
-            }
-            continue;
-        };
-        let trial: Vec<f64> = theta.iter().zip(step.iter()).map(|(a, b)| a + b).collect();
-        match evaluate(p, t, free, &trial) {
-            Some(next) if next.residual.norm_squared() <= chi2 => {
-                let new_chi2 = next.residual.norm_squared();
-                let small = step
-                    .iter()
-                    .zip(&trial)
-                    .all(|(s, v)| s.abs() <= 1e-12 * v.abs().max(1.0));
-                let flat = chi2 - new_chi2 <= 1e-15 * (1.0 + chi2);
-                theta = trial;
-                cur = next;
-                chi2 = new_chi2;
-                lambda = (lambda / 3.0).max(1e-12);
-                if small || (flat && lambda < 1e-6) {
-                    break;
-                }
-            }
-            _ => {
-                lambda *= 4.0;
-                if lambda > 1e12 {
-                    break;
-                }
-            }
-        }
+/// One assignment as a least-squares problem for [`crate::solver`]:
+/// residuals (E_calc − E_obs)/σ per assigned band, analytic θ-gradients from
+/// the level derivatives (Hellmann–Feynman, in `ligand_field::model`).
+struct AssignmentProblem<'a> {
+    problem: &'a Problem,
+    tuple: &'a Tuple,
+    free: Free,
+}
+
+impl LeastSquares for AssignmentProblem<'_> {
+    fn residual_count(&self) -> usize {
+        self.tuple.finals.len()
     }
-    Some((theta, cur))
+
+    fn parameter_count(&self) -> usize {
+        self.free.count()
+    }
+
+    fn evaluate(&self, x: &[f64], residuals: &mut [f64], jacobian: Option<&mut [f64]>) -> bool {
+        let Some(ev) = evaluate(self.problem, self.tuple, self.free, x) else {
+            return false;
+        };
+        residuals.copy_from_slice(ev.residual.as_slice());
+        if let Some(jac) = jacobian {
+            // nalgebra stores matrices column-major, the layout the solver wants.
+            jac.copy_from_slice(ev.jacobian.as_slice());
+        }
+        true
+    }
+}
+
+/// Smallest value the solver may give Dq, B or C (cm⁻¹): the physical region
+/// is θ > 0, and a step that would cross zero is projected onto this bound.
+const THETA_FLOOR: f64 = 1e-6;
+
+/// Refines θ from `theta` by the crate's one least-squares solver, kept inside
+/// θ > 0 by its projected bounds; None when the start cannot be evaluated.
+fn solve(p: &Problem, t: &Tuple, free: Free, theta: Vec<f64>) -> Option<(Vec<f64>, Eval)> {
+    let problem = AssignmentProblem {
+        problem: p,
+        tuple: t,
+        free,
+    };
+    let options = LmOptions {
+        ftol: 1e-15,
+        xtol: 1e-12,
+        lower: vec![THETA_FLOOR; free.count()],
+        upper: Vec::new(),
+        ..LmOptions::default()
+    };
+    let report = solver::solve(&problem, &theta, &options, &mut |_| true).ok()?;
+    let ev = evaluate(p, t, free, &report.x)?;
+    Some((report.x, ev))
 }
 
 /// Fits one assignment and builds its solution.
@@ -289,6 +304,38 @@ fn build(
     }
     let c = cov.as_ref();
     let pr = params(free, theta, p.gamma);
+    let (parameters, derived) = estimates(p, free, pr, c);
+    let start = &ev.levels[ev.start];
+    let assignment = assigned(p, ev);
+    let predicted = predictions(p, ev, free, c);
+    let plausible = plausibility(p, ev, free, pr, &derived, &mut warnings);
+    consistency_warnings(&assignment, chi2, dof, &mut warnings);
+    let skipped = skipped_lower(p, ev, &assignment);
+    let spin = spin_state(p, &ev.levels, pr, derived.delta_over_b.map(|e| e.value));
+    let notes = notes(p, pr, free, &derived);
+    Ok(Solution {
+        parameters,
+        derived,
+        ground: start.label.clone(),
+        ground_typeset: start.typeset.clone(),
+        spin,
+        assignment,
+        predicted,
+        chi2,
+        degrees_of_freedom: dof,
+        free: free.names(),
+        correlation: c.map(Covariance::correlation).unwrap_or_default(),
+        delta_chi2: 0.0,
+        plausible,
+        warnings,
+        notes,
+        score: chi2 + 4.0 * skipped as f64,
+    })
+}
+
+/// Dq, B, C with their σ, and the derived Δ, β, Dq/B, Δ/B and C/B.
+fn estimates(p: &Problem, free: Free, pr: Params, c: Option<&Covariance>) -> (Parameters, Derived) {
+    let np = free.count();
     let z = |i: usize| {
         let mut g = vec![0.0; np];
         if i < np {
@@ -360,7 +407,12 @@ fn build(
         c_over_b,
     };
 
-    // Assignment and predictions.
+    (Parameters { dq, b, c: cc }, derived)
+}
+
+/// Each assigned band with its state and calculated position.
+fn assigned(p: &Problem, ev: &Eval) -> Vec<Assigned> {
+    let k = p.bands.len();
     let start = &ev.levels[ev.start];
     let mut assignment = Vec::with_capacity(k);
     for (i, &j) in ev.finals.iter().enumerate() {
@@ -374,6 +426,12 @@ fn build(
             residual: p.bands[i].energy - calculated,
         });
     }
+    assignment
+}
+
+/// Every transition up to `max_prediction` with its propagated σ.
+fn predictions(p: &Problem, ev: &Eval, free: Free, c: Option<&Covariance>) -> Vec<Predicted> {
+    let start = &ev.levels[ev.start];
     let mut predicted = Vec::new();
     for j in 0..ev.levels.len() {
         if j == ev.start {
@@ -393,6 +451,21 @@ fn build(
         });
     }
 
+    predicted
+}
+
+/// The plausibility checks (common practice unless stated): spin state,
+/// β, Dq/B and band intensities. False when one fails; each adds a warning.
+fn plausibility(
+    p: &Problem,
+    ev: &Eval,
+    free: Free,
+    pr: Params,
+    derived: &Derived,
+    warnings: &mut Vec<String>,
+) -> bool {
+    let start = &ev.levels[ev.start];
+    let (beta, dq_over_b) = (derived.beta, derived.dq_over_b);
     // Plausibility (common practice unless stated).
     let mut plausible = true;
     let mut flag = |text: String, w: &mut Vec<String>| {
@@ -400,18 +473,18 @@ fn build(
         w.push(text);
     };
     if ev.levels[0].multiplicity != start.multiplicity {
-        flag(format!("at the fitted field the ground state is {}, not {}: this spin state is inconsistent", ev.levels[0].typeset, start.typeset), &mut warnings);
+        flag(format!("at the fitted field the ground state is {}, not {}: this spin state is inconsistent", ev.levels[0].typeset, start.typeset), warnings);
     }
     if let Some(bt) = beta {
         if bt.value > 1.05 {
-            flag(format!("β = {:.2} is above 1.05: a B larger than the free ion's is not physical (a wrong assignment?)", bt.value), &mut warnings);
+            flag(format!("β = {:.2} is above 1.05: a B larger than the free ion's is not physical (a wrong assignment?)", bt.value), warnings);
         } else if bt.value < 0.3 {
             flag(
                 format!(
                     "β = {:.2} is below 0.3: implausibly strong covalency",
                     bt.value
                 ),
-                &mut warnings,
+                warnings,
             );
         }
     } else if matches!(free, Free::DqB | Free::DqBC) && pr.b > 1300.0 {
@@ -420,7 +493,7 @@ fn build(
                 "B = {:.0} cm⁻¹ is above every first-row free-ion value (≈ 1240 cm⁻¹ at most)",
                 pr.b
             ),
-            &mut warnings,
+            warnings,
         );
     }
     if let Some(r) = dq_over_b {
@@ -430,7 +503,7 @@ fn build(
                     "Dq/B = {:.2} lies outside the range 0.2–6 met in cubic complexes",
                     r.value
                 ),
-                &mut warnings,
+                warnings,
             );
         }
     }
@@ -440,12 +513,18 @@ fn build(
         };
         let allowed = ev.levels[j].multiplicity == start.multiplicity;
         if allowed && p.geometry == Geometry::Octahedral && eps > 1000.0 {
-            flag(format!("the band at {:.0} cm⁻¹ (ε = {eps:.0}) is too intense for a Laporte-forbidden octahedral d–d band: charge transfer?", p.bands[i].energy), &mut warnings);
+            flag(format!("the band at {:.0} cm⁻¹ (ε = {eps:.0}) is too intense for a Laporte-forbidden octahedral d–d band: charge transfer?", p.bands[i].energy), warnings);
         } else if !allowed && eps > 10.0 {
-            flag(format!("the band at {:.0} cm⁻¹ (ε = {eps:.0}) is too intense for a spin-forbidden transition", p.bands[i].energy), &mut warnings);
+            flag(format!("the band at {:.0} cm⁻¹ (ε = {eps:.0}) is too intense for a spin-forbidden transition", p.bands[i].energy), warnings);
         }
     }
-    for a in &assignment {
+    plausible
+}
+
+/// Warnings for bands far from their calculated positions and for a
+/// reduced χ² above 4 (common practice).
+fn consistency_warnings(assignment: &[Assigned], chi2: f64, dof: i64, warnings: &mut Vec<String>) {
+    for a in assignment {
         if a.residual.abs() > 3.0 * a.sigma {
             warnings.push(format!(
                 "the band at {:.0} cm⁻¹ is {:.0} cm⁻¹ from its calculated position ({:.1} σ)",
@@ -461,38 +540,20 @@ fn build(
             chi2 / dof as f64
         ));
     }
+}
 
-    // Lower spin-allowed transitions skipped by the assignment.
+/// Lower spin-allowed transitions the assignment skips (for the score).
+fn skipped_lower(p: &Problem, ev: &Eval, assignment: &[Assigned]) -> usize {
+    let start = &ev.levels[ev.start];
     let top = assignment.iter().map(|a| a.calculated).fold(0.0, f64::max);
-    let skipped = (0..ev.levels.len())
+    (0..ev.levels.len())
         .filter(|&j| {
             j != ev.start
                 && !ev.finals.contains(&j)
                 && is_candidate(start.multiplicity, ev.levels[j].multiplicity, false)
         })
         .filter(|&j| (p.observed_from..top).contains(&(ev.levels[j].energy - start.energy)))
-        .count();
-
-    let spin = spin_state(p, &ev.levels, pr, derived.delta_over_b.map(|e| e.value));
-    let notes = notes(p, pr, free, &derived);
-    Ok(Solution {
-        parameters: Parameters { dq, b, c: cc },
-        derived,
-        ground: start.label.clone(),
-        ground_typeset: start.typeset.clone(),
-        spin,
-        assignment,
-        predicted,
-        chi2,
-        degrees_of_freedom: dof,
-        free: free.names(),
-        correlation: c.map(Covariance::correlation).unwrap_or_default(),
-        delta_chi2: 0.0,
-        plausible,
-        warnings,
-        notes,
-        score: chi2 + 4.0 * skipped as f64,
-    })
+        .count()
 }
 
 fn spin_state(p: &Problem, levels: &[Level], pr: Params, delta_over_b: Option<f64>) -> SpinState {

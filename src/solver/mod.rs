@@ -27,8 +27,14 @@
 //! overflows is rejected like one that raises χ². The SVD fallback is
 //! iteration-bounded.
 //!
-//! This is the one least-squares solver of the crate: the band fit and the
-//! NIST StRD checks run through [`solve`].
+//! This is the one least-squares solver of the crate: the band fit
+//! (`bands`), the ligand-field fit (`lf_fit`) and the NIST StRD checks
+//! (`tests/bands_nist.rs`) all run through [`solve`].
+//!
+//! The state of a solve lives in one struct (`Solver`); its `minimize` is a
+//! short loop over named steps (`before_iteration`, then `iterate`: active
+//! set, scaling, gradient test, damped step, `propose`, `evaluate_trial`,
+//! `accept` or `reject`), each pure step tested beside it.
 //!
 //! The solver always returns the best point found, with the reason it stopped
 //! and the number of model evaluations; it never turns an iteration limit or
@@ -102,7 +108,7 @@ pub enum StopReason {
 
 impl StopReason {
     /// True for the stop reasons that mean a minimum was reached.
-    pub fn converged(self) -> bool {
+    pub fn was_successful(self) -> bool {
         matches!(
             self,
             StopReason::ConvergedCost
@@ -278,30 +284,16 @@ pub fn solve(
     opts: &LmOptions,
     progress: &mut dyn FnMut(Progress) -> bool,
 ) -> Result<LmReport, LmError> {
-    let m = problem.residual_count();
-    let n = problem.parameter_count();
-    if x0.len() != n {
-        return Err(LmError::BadSetup(format!(
-            "{} starting values for {n} parameters",
-            x0.len()
-        )));
-    }
-    if m < n {
-        return Err(LmError::TooFewResiduals {
-            residuals: m,
-            parameters: n,
-        });
-    }
-    let lower = if opts.lower.is_empty() {
-        vec![f64::NEG_INFINITY; n]
-    } else {
-        opts.lower.clone()
-    };
-    let upper = if opts.upper.is_empty() {
-        vec![f64::INFINITY; n]
-    } else {
-        opts.upper.clone()
-    };
+    Ok(Solver::new(problem, x0, opts)?.minimize(progress))
+}
+
+/// The box [lower, upper] of `opts` for n parameters (unbounded when empty),
+/// checked against the start `x0`.
+fn checked_bounds(opts: &LmOptions, x0: &[f64]) -> Result<(Vec<f64>, Vec<f64>), LmError> {
+    let n = x0.len();
+    let or_default = |b: &[f64], v: f64| if b.is_empty() { vec![v; n] } else { b.to_vec() };
+    let lower = or_default(&opts.lower, f64::NEG_INFINITY);
+    let upper = or_default(&opts.upper, f64::INFINITY);
     if lower.len() != n || upper.len() != n {
         return Err(LmError::BadSetup(
             "bounds do not match the parameters".into(),
@@ -314,136 +306,301 @@ pub fn solve(
             "a lower bound exceeds its upper bound, or a start value is not finite".into(),
         ));
     }
-    let mut x: Vec<f64> = (0..n)
-        .map(|j| start_inside(x0[j], lower[j], upper[j]))
-        .collect();
+    Ok((lower, upper))
+}
 
-    let mut r = vec![0.0; m];
-    let mut jac = vec![0.0; m * n];
-    let mut r_trial = vec![0.0; m];
-    let mut jac_trial = vec![0.0; m * n];
-    let mut evaluations = 1;
-    if !problem.evaluate(&x, &mut r, Some(&mut jac)) || !all_finite(&r) || !all_finite(&jac) {
-        return Err(LmError::StartNotFinite);
-    }
-    let mut chi2 = dot(&r, &r);
-    let (mut a, mut g) = normal_equations(&jac, &r, m, n);
-    if !chi2.is_finite() || !system_finite(&a, &g) {
-        return Err(LmError::Overflow);
-    }
-    let mut diag: Vec<f64> = (0..n).map(|j| a[(j, j)]).collect();
-    let mut lambda = 1e-3;
-    let mut nu = 2.0;
-    let mut iterations = 0;
+/// A proposed step, clamped into the box, with the numbers that judge it.
+struct Trial {
+    x: Vec<f64>,
+    /// ‖D^½ δ‖ of the clamped step δ.
+    scaled_step: f64,
+    /// ‖D^½ x‖ at the current point.
+    scaled_x: f64,
+    /// Reduction of χ² the linear model predicts: −2gᵀδ − δᵀAδ.
+    predicted: f64,
+}
 
-    let stop = loop {
-        if chi2 == 0.0 {
-            break StopReason::ExactFit;
+/// The whole state of one solve: the current point, its residuals and
+/// Jacobian, the normal equations, the damping and the counters.
+struct Solver<'a> {
+    problem: &'a dyn LeastSquares,
+    opts: &'a LmOptions,
+    m: usize,
+    n: usize,
+    lower: Vec<f64>,
+    upper: Vec<f64>,
+    x: Vec<f64>,
+    r: Vec<f64>,
+    jac: Vec<f64>,
+    r_trial: Vec<f64>,
+    jac_trial: Vec<f64>,
+    chi2: f64,
+    /// JᵀJ at `x`.
+    a: DMatrix<f64>,
+    /// Jᵀr at `x`.
+    g: DVector<f64>,
+    /// Running maximum of diag(JᵀJ) (Marquardt scaling).
+    diag: Vec<f64>,
+    lambda: f64,
+    nu: f64,
+    iterations: usize,
+    evaluations: usize,
+}
+
+impl<'a> Solver<'a> {
+    /// Checks the setup and evaluates the start (nudged inside the box).
+    fn new(
+        problem: &'a dyn LeastSquares,
+        x0: &[f64],
+        opts: &'a LmOptions,
+    ) -> Result<Self, LmError> {
+        let m = problem.residual_count();
+        let n = problem.parameter_count();
+        if x0.len() != n {
+            return Err(LmError::BadSetup(format!(
+                "{} starting values for {n} parameters",
+                x0.len()
+            )));
         }
-        if !progress(Progress {
-            iteration: iterations,
-            evaluations,
+        if m < n {
+            return Err(LmError::TooFewResiduals {
+                residuals: m,
+                parameters: n,
+            });
+        }
+        let (lower, upper) = checked_bounds(opts, x0)?;
+        let x: Vec<f64> = (0..n)
+            .map(|j| start_inside(x0[j], lower[j], upper[j]))
+            .collect();
+        let mut r = vec![0.0; m];
+        let mut jac = vec![0.0; m * n];
+        if !problem.evaluate(&x, &mut r, Some(&mut jac)) || !all_finite(&r) || !all_finite(&jac) {
+            return Err(LmError::StartNotFinite);
+        }
+        let chi2 = dot(&r, &r);
+        let (a, g) = normal_equations(&jac, &r, m, n);
+        if !chi2.is_finite() || !system_finite(&a, &g) {
+            return Err(LmError::Overflow);
+        }
+        let diag = (0..n).map(|j| a[(j, j)]).collect();
+        Ok(Solver {
+            problem,
+            opts,
+            m,
+            n,
+            lower,
+            upper,
+            x,
+            r_trial: vec![0.0; m],
+            jac_trial: vec![0.0; m * n],
+            r,
+            jac,
             chi2,
-        }) {
-            break StopReason::Cancelled;
-        }
-        if iterations >= opts.max_iterations {
-            break StopReason::IterationLimit;
-        }
-        iterations += 1;
-        // Active set: a parameter on a bound with the descent direction pointing out is frozen.
-        let free: Vec<bool> = (0..n)
-            .map(|j| !((x[j] <= lower[j] && g[j] > 0.0) || (x[j] >= upper[j] && g[j] < 0.0)))
-            .collect();
-        let max_diag = diag.iter().cloned().fold(0.0, f64::max);
-        let scale: Vec<f64> = diag
-            .iter()
-            .map(|&d| d.max(max_diag * 1e-15).max(f64::MIN_POSITIVE))
-            .collect();
-        let gradient_cosine = (0..n)
-            .filter(|&j| free[j] && a[(j, j)] > 0.0)
-            .map(|j| g[j].abs() / (a[(j, j)] * chi2).sqrt())
-            .fold(0.0, f64::max);
-        if gradient_cosine <= opts.gtol {
-            break StopReason::ConvergedGradient;
-        }
-        let Some(raw) = damped_step(&a, &g, &scale, lambda, &free) else {
-            break StopReason::NoProgress;
+            a,
+            g,
+            diag,
+            lambda: 1e-3,
+            nu: 2.0,
+            iterations: 0,
+            evaluations: 1,
+        })
+    }
+
+    /// Iterates until a stop reason appears and returns the best point.
+    fn minimize(mut self, progress: &mut dyn FnMut(Progress) -> bool) -> LmReport {
+        let stop = loop {
+            if let Some(stop) = self.before_iteration(progress) {
+                break stop;
+            }
+            if let Some(stop) = self.iterate() {
+                break stop;
+            }
         };
-        let x_trial: Vec<f64> = (0..n)
-            .map(|j| (x[j] + raw[j]).clamp(lower[j], upper[j]))
+        self.report(stop)
+    }
+
+    /// The stops checked before an iteration: exact fit, cancellation, limit.
+    fn before_iteration(
+        &mut self,
+        progress: &mut dyn FnMut(Progress) -> bool,
+    ) -> Option<StopReason> {
+        if self.chi2 == 0.0 {
+            return Some(StopReason::ExactFit);
+        }
+        let report = Progress {
+            iteration: self.iterations,
+            evaluations: self.evaluations,
+            chi2: self.chi2,
+        };
+        if !progress(report) {
+            return Some(StopReason::Cancelled);
+        }
+        (self.iterations >= self.opts.max_iterations).then_some(StopReason::IterationLimit)
+    }
+
+    /// One iteration: build the damped system, take a step, evaluate it,
+    /// accept or reject it (updating the damping), test for convergence.
+    fn iterate(&mut self) -> Option<StopReason> {
+        self.iterations += 1;
+        let free = free_parameters(&self.x, &self.g, &self.lower, &self.upper);
+        let scale = marquardt_scale(&self.diag);
+        if gradient_cosine(&self.a, &self.g, &free, self.chi2) <= self.opts.gtol {
+            return Some(StopReason::ConvergedGradient);
+        }
+        let Some(raw) = damped_step(&self.a, &self.g, &scale, self.lambda, &free) else {
+            return Some(StopReason::NoProgress);
+        };
+        let trial = self.propose(&raw, &scale);
+        let (ok, chi2_trial) = self.evaluate_trial(&trial.x);
+        let actual = self.chi2 - chi2_trial;
+        let small_step = step_converged(trial.scaled_step, trial.scaled_x, self.opts.xtol);
+        let trial_system = (ok && actual > 0.0 && trial.predicted > 0.0)
+            .then(|| normal_equations(&self.jac_trial, &self.r_trial, self.m, self.n))
+            .filter(|(a_t, g_t)| system_finite(a_t, g_t));
+        match trial_system {
+            Some(system) => {
+                let old_chi2 = self.chi2;
+                let rho = actual / trial.predicted;
+                self.accept(trial.x, chi2_trial, system, rho);
+                let ftol = self.opts.ftol * old_chi2;
+                if actual <= ftol && trial.predicted <= ftol {
+                    Some(StopReason::ConvergedCost)
+                } else {
+                    small_step.then_some(StopReason::ConvergedStep)
+                }
+            }
+            None if small_step && ok => Some(StopReason::ConvergedStep),
+            None => self.reject(),
+        }
+    }
+
+    /// The clamped trial point of the raw step and its predicted reduction.
+    fn propose(&self, raw: &[f64], scale: &[f64]) -> Trial {
+        let n = self.n;
+        let x: Vec<f64> = (0..n)
+            .map(|j| (self.x[j] + raw[j]).clamp(self.lower[j], self.upper[j]))
             .collect();
-        let step: Vec<f64> = (0..n).map(|j| x_trial[j] - x[j]).collect();
+        let step: Vec<f64> = (0..n).map(|j| x[j] - self.x[j]).collect();
         let scaled_step = (0..n)
             .map(|j| scale[j] * step[j] * step[j])
             .sum::<f64>()
             .sqrt();
-        let scaled_x = (0..n).map(|j| scale[j] * x[j] * x[j]).sum::<f64>().sqrt();
-        // Predicted reduction of ‖r + Jδ‖²: −2gᵀδ − δᵀAδ.
-        let mut quad = 0.0;
-        for i in 0..n {
-            for j in 0..n {
-                quad += step[i] * a[(i, j)] * step[j];
-            }
+        let scaled_x = (0..n)
+            .map(|j| scale[j] * self.x[j] * self.x[j])
+            .sum::<f64>()
+            .sqrt();
+        Trial {
+            x,
+            scaled_step,
+            scaled_x,
+            predicted: predicted_reduction(&self.a, &self.g, &step),
         }
-        let predicted = -2.0 * (0..n).map(|j| g[j] * step[j]).sum::<f64>() - quad;
+    }
 
-        evaluations += 1;
-        let ok = problem.evaluate(&x_trial, &mut r_trial, Some(&mut jac_trial))
-            && all_finite(&r_trial)
-            && all_finite(&jac_trial);
-        let chi2_trial = if ok {
-            dot(&r_trial, &r_trial)
+    /// Evaluates the model at the trial point into the trial buffers: whether
+    /// it is finite, and its χ² (infinite when it is not).
+    fn evaluate_trial(&mut self, x_trial: &[f64]) -> (bool, f64) {
+        self.evaluations += 1;
+        let ok = self
+            .problem
+            .evaluate(x_trial, &mut self.r_trial, Some(&mut self.jac_trial))
+            && all_finite(&self.r_trial)
+            && all_finite(&self.jac_trial);
+        let chi2 = if ok {
+            dot(&self.r_trial, &self.r_trial)
         } else {
             f64::INFINITY
         };
-        let actual = chi2 - chi2_trial;
-        let trial_system = (ok && actual > 0.0 && predicted > 0.0)
-            .then(|| normal_equations(&jac_trial, &r_trial, m, n))
-            .filter(|(a_t, g_t)| system_finite(a_t, g_t));
-        if let Some(system) = trial_system {
-            let rho = actual / predicted;
-            let old_chi2 = chi2;
-            x = x_trial;
-            std::mem::swap(&mut r, &mut r_trial);
-            std::mem::swap(&mut jac, &mut jac_trial);
-            chi2 = chi2_trial;
-            (a, g) = system;
-            for j in 0..n {
-                diag[j] = diag[j].max(a[(j, j)]);
-            }
-            lambda *= (1.0 - (2.0 * rho - 1.0).powi(3)).max(1.0 / 3.0);
-            nu = 2.0;
-            if actual <= opts.ftol * old_chi2 && predicted <= opts.ftol * old_chi2 {
-                break StopReason::ConvergedCost;
-            }
-            if scaled_step <= opts.xtol * (scaled_x + opts.xtol) {
-                break StopReason::ConvergedStep;
-            }
-        } else {
-            if scaled_step <= opts.xtol * (scaled_x + opts.xtol) && ok {
-                break StopReason::ConvergedStep;
-            }
-            lambda *= nu;
-            nu *= 2.0;
-            if lambda > 1e20 || !lambda.is_finite() {
-                break StopReason::NoProgress;
-            }
+        (ok, chi2)
+    }
+
+    /// Moves to the trial point and relaxes the damping by Nielsen's rule.
+    fn accept(&mut self, x: Vec<f64>, chi2: f64, system: (DMatrix<f64>, DVector<f64>), rho: f64) {
+        self.x = x;
+        std::mem::swap(&mut self.r, &mut self.r_trial);
+        std::mem::swap(&mut self.jac, &mut self.jac_trial);
+        self.chi2 = chi2;
+        (self.a, self.g) = system;
+        for j in 0..self.n {
+            self.diag[j] = self.diag[j].max(self.a[(j, j)]);
         }
-    };
-    let at_bound = (0..n)
-        .map(|j| x[j] <= lower[j] || x[j] >= upper[j])
-        .collect();
-    Ok(LmReport {
-        x,
-        chi2,
-        residuals: r,
-        jacobian: jac,
-        iterations,
-        evaluations,
-        stop,
-        at_bound,
-    })
+        self.lambda = damping_after_success(self.lambda, rho);
+        self.nu = 2.0;
+    }
+
+    /// Stays put and raises the damping; gives up when it explodes.
+    fn reject(&mut self) -> Option<StopReason> {
+        (self.lambda, self.nu) = damping_after_failure(self.lambda, self.nu);
+        (self.lambda > 1e20 || !self.lambda.is_finite()).then_some(StopReason::NoProgress)
+    }
+
+    fn report(self, stop: StopReason) -> LmReport {
+        let at_bound = (0..self.n)
+            .map(|j| self.x[j] <= self.lower[j] || self.x[j] >= self.upper[j])
+            .collect();
+        LmReport {
+            x: self.x,
+            chi2: self.chi2,
+            residuals: self.r,
+            jacobian: self.jac,
+            iterations: self.iterations,
+            evaluations: self.evaluations,
+            stop,
+            at_bound,
+        }
+    }
+}
+
+/// The active set: a parameter on a bound whose descent direction points out
+/// of the box is frozen (false) for this iteration.
+fn free_parameters(x: &[f64], g: &DVector<f64>, lower: &[f64], upper: &[f64]) -> Vec<bool> {
+    (0..x.len())
+        .map(|j| !((x[j] <= lower[j] && g[j] > 0.0) || (x[j] >= upper[j] && g[j] < 0.0)))
+        .collect()
+}
+
+/// The damping scale D: the running diagonal, floored at 1e-15 of its
+/// largest entry (and above zero) so no parameter goes undamped.
+fn marquardt_scale(diag: &[f64]) -> Vec<f64> {
+    let max_diag = diag.iter().copied().fold(0.0, f64::max);
+    diag.iter()
+        .map(|&d| d.max(max_diag * 1e-15).max(f64::MIN_POSITIVE))
+        .collect()
+}
+
+/// Moré's gradient test: the largest |gⱼ| / √(Aⱼⱼ χ²) over the free parameters.
+fn gradient_cosine(a: &DMatrix<f64>, g: &DVector<f64>, free: &[bool], chi2: f64) -> f64 {
+    (0..free.len())
+        .filter(|&j| free[j] && a[(j, j)] > 0.0)
+        .map(|j| g[j].abs() / (a[(j, j)] * chi2).sqrt())
+        .fold(0.0, f64::max)
+}
+
+/// Predicted reduction of ‖r + Jδ‖²: −2gᵀδ − δᵀAδ.
+fn predicted_reduction(a: &DMatrix<f64>, g: &DVector<f64>, step: &[f64]) -> f64 {
+    let n = step.len();
+    let mut quad = 0.0;
+    for i in 0..n {
+        for j in 0..n {
+            quad += step[i] * a[(i, j)] * step[j];
+        }
+    }
+    -2.0 * (0..n).map(|j| g[j] * step[j]).sum::<f64>() - quad
+}
+
+/// Moré's step test: ‖D^½ δ‖ ≤ xtol · (‖D^½ x‖ + xtol).
+fn step_converged(scaled_step: f64, scaled_x: f64, xtol: f64) -> bool {
+    scaled_step <= xtol * (scaled_x + xtol)
+}
+
+/// Nielsen's rule after an accepted step with gain ratio ρ.
+fn damping_after_success(lambda: f64, rho: f64) -> f64 {
+    lambda * (1.0 - (2.0 * rho - 1.0).powi(3)).max(1.0 / 3.0)
+}
+
+/// Nielsen's rule after a rejected step: λ·ν, and ν doubles.
+fn damping_after_failure(lambda: f64, nu: f64) -> (f64, f64) {
+    (lambda * nu, nu * 2.0)
 }
 
 fn all_finite(v: &[f64]) -> bool {
@@ -526,5 +683,133 @@ mod tests {
         let a = DMatrix::from_element(1, 1, 4.0);
         let step = damped_step(&a, &g, &[1.0], 0.0, &[true]).unwrap();
         assert_eq!(step, vec![-0.25]);
+    }
+
+    /// r = (x₀ − 1, 10·(x₁ − 2)): a linear problem, so the linear model is exact.
+    struct Line;
+
+    impl LeastSquares for Line {
+        fn residual_count(&self) -> usize {
+            2
+        }
+        fn parameter_count(&self) -> usize {
+            2
+        }
+        fn evaluate(&self, x: &[f64], r: &mut [f64], jac: Option<&mut [f64]>) -> bool {
+            r[0] = x[0] - 1.0;
+            r[1] = 10.0 * (x[1] - 2.0);
+            if let Some(j) = jac {
+                j.copy_from_slice(&[1.0, 0.0, 0.0, 10.0]);
+            }
+            true
+        }
+    }
+
+    #[test]
+    fn a_parameter_on_its_bound_with_the_gradient_pointing_out_is_frozen() {
+        let g = DVector::from_vec(vec![1.0, -1.0, 1.0]);
+        let free = free_parameters(&[0.0, 0.0, 0.5], &g, &[0.0, 0.0, 0.0], &[1.0, 1.0, 1.0]);
+        // Descent is −g: outward for the first, inward for the second.
+        assert_eq!(free, vec![false, true, true]);
+    }
+
+    #[test]
+    fn the_damping_scale_never_drops_below_a_tiny_share_of_its_largest_entry() {
+        let scale = marquardt_scale(&[4.0, 0.0, 1e-20]);
+        assert_eq!(scale[0], 4.0);
+        assert_eq!(scale[1], 4e-15);
+        assert_eq!(scale[2], 4e-15);
+        assert!(marquardt_scale(&[0.0]).iter().all(|&d| d > 0.0));
+    }
+
+    #[test]
+    fn the_gradient_cosine_skips_frozen_parameters() {
+        let a = DMatrix::from_diagonal(&DVector::from_vec(vec![4.0, 1.0]));
+        let g = DVector::from_vec(vec![2.0, 3.0]);
+        // |g₀|/√(A₀₀ χ²) = 2/√(4·1) = 1; |g₁|/√(1·1) = 3.
+        assert_eq!(gradient_cosine(&a, &g, &[true, true], 1.0), 3.0);
+        assert_eq!(gradient_cosine(&a, &g, &[true, false], 1.0), 1.0);
+    }
+
+    #[test]
+    fn the_predicted_reduction_is_exact_for_a_linear_problem() {
+        let x = [0.0, 0.0];
+        let mut r = [0.0; 2];
+        let mut jac = [0.0; 4];
+        Line.evaluate(&x, &mut r, Some(&mut jac));
+        let (a, g) = normal_equations(&jac, &r, 2, 2);
+        let step = [0.3, 1.5];
+        let mut r_new = [0.0; 2];
+        Line.evaluate(&step, &mut r_new, None);
+        let actual = dot(&r, &r) - dot(&r_new, &r_new);
+        let predicted = predicted_reduction(&a, &g, &step);
+        assert!((predicted - actual).abs() <= 1e-12 * actual.abs());
+    }
+
+    #[test]
+    fn a_step_is_small_relative_to_the_scaled_parameters_plus_xtol() {
+        assert!(step_converged(1e-11, 1.0, 1e-10));
+        assert!(!step_converged(1e-9, 1.0, 1e-10));
+        // At x = 0 the test still ends on a step of order xtol².
+        assert!(step_converged(1e-21, 0.0, 1e-10));
+    }
+
+    /// Nielsen (1999): ρ = 1 gives the largest cut (÷3), ρ = ½ leaves λ alone.
+    #[test]
+    fn the_damping_follows_nielsens_rule() {
+        assert!((damping_after_success(3.0, 1.0) - 1.0).abs() < 1e-15);
+        assert_eq!(damping_after_success(3.0, 0.5), 3.0);
+        assert_eq!(damping_after_failure(1.0, 2.0), (2.0, 4.0));
+        assert_eq!(damping_after_failure(2.0, 4.0), (8.0, 8.0));
+    }
+
+    #[test]
+    fn a_linear_problem_is_solved_and_the_stop_was_successful() {
+        let report = solve(&Line, &[0.0, 0.0], &LmOptions::default(), &mut |_| true).unwrap();
+        assert!(report.stop.was_successful(), "{}", report.stop);
+        assert!((report.x[0] - 1.0).abs() < 1e-9 && (report.x[1] - 2.0).abs() < 1e-9);
+    }
+
+    #[test]
+    fn a_bound_holds_the_solution_and_is_reported() {
+        let opts = LmOptions {
+            upper: vec![0.5, f64::INFINITY],
+            ..LmOptions::default()
+        };
+        let report = solve(&Line, &[0.0, 0.0], &opts, &mut |_| true).unwrap();
+        assert_eq!(report.x[0], 0.5);
+        assert_eq!(report.at_bound, vec![true, false]);
+        assert!((report.x[1] - 2.0).abs() < 1e-9);
+    }
+
+    #[test]
+    fn the_iteration_limit_and_a_cancellation_are_reported_with_the_best_point() {
+        let opts = LmOptions {
+            max_iterations: 0,
+            ..LmOptions::default()
+        };
+        let report = solve(&Line, &[0.0, 0.0], &opts, &mut |_| true).unwrap();
+        assert_eq!(report.stop, StopReason::IterationLimit);
+        assert!(!report.stop.was_successful());
+        let report = solve(&Line, &[0.0, 0.0], &LmOptions::default(), &mut |_| false).unwrap();
+        assert_eq!(
+            (report.stop, report.evaluations),
+            (StopReason::Cancelled, 1)
+        );
+    }
+
+    #[test]
+    fn bad_bounds_and_a_short_start_are_refused_with_a_sentence() {
+        let opts = LmOptions {
+            lower: vec![1.0, 0.0],
+            upper: vec![0.0, 1.0],
+            ..LmOptions::default()
+        };
+        let err = checked_bounds(&opts, &[0.5, 0.5]).unwrap_err();
+        assert!(err.to_string().contains("lower bound exceeds"));
+        let err = solve(&Line, &[0.0], &LmOptions::default(), &mut |_| true).unwrap_err();
+        assert!(err
+            .to_string()
+            .contains("1 starting values for 2 parameters"));
     }
 }
