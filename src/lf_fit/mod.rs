@@ -206,9 +206,10 @@ pub struct Solution {
     pub warnings: Vec<String>,
     /// Further observations: Jahn–Teller splitting, ²E/⁴T₂ crossing, Δt vs Δo.
     pub notes: Vec<String>,
-    /// Ranking score: χ² plus the penalty for unobserved lower bands.
-    #[serde(skip)]
-    pub(crate) score: f64,
+    /// Ranking score: χ² plus the penalty for unobserved lower bands (saved
+    /// with the result, so a reloaded project ranks and compares the same).
+    #[serde(default)]
+    pub score: f64,
 }
 
 /// The best solution and the ranked alternatives.
