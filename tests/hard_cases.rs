@@ -52,10 +52,7 @@ fn the_normal_deviates_have_mean_zero_and_unit_variance() {
 
 #[test]
 fn pure_noise_is_flat_at_one_hundredth_with_a_spread_of_two_thousandths() {
-    let case = hard_cases::all()
-        .into_iter()
-        .find(|c| c.name == "pure-noise")
-        .unwrap();
+    let case = hard_cases::named("pure-noise");
     assert!(case.truth.params.is_none() && case.truth.bands.is_empty());
     let (_, y) = import(&case);
     let mean = y.iter().sum::<f64>() / y.len() as f64;
@@ -68,10 +65,7 @@ fn pure_noise_is_flat_at_one_hundredth_with_a_spread_of_two_thousandths() {
 fn tetrahedral_cobalt_has_its_bands_near_5800_and_14700_with_beta_near_063() {
     // The targets are those of issue 17 (bands ~5 800 and 14 700 cm⁻¹,
     // ⁴T₁(F) + ⁴T₁(P), β ≈ 0.63); ν1 = 10Dq must lie below the range.
-    let case = hard_cases::all()
-        .into_iter()
-        .find(|c| c.name == "co-td-nu1-mid-ir")
-        .unwrap();
+    let case = hard_cases::named("co-td-nu1-mid-ir");
     let e: Vec<f64> = case.truth.bands.iter().map(|b| b.centre).collect();
     assert!(
         (e[0] - 5800.0).abs() < 400.0 && (e[1] - 14_700.0).abs() < 600.0,
@@ -84,10 +78,7 @@ fn tetrahedral_cobalt_has_its_bands_near_5800_and_14700_with_beta_near_063() {
 
 #[test]
 fn nu1_of_the_out_of_range_nickel_case_lies_below_the_range_and_the_others_inside() {
-    let case = hard_cases::all()
-        .into_iter()
-        .find(|c| c.name == "ni-nu1-outside-range")
-        .unwrap();
+    let case = hard_cases::named("ni-nu1-outside-range");
     let [lo, hi] = case.axis.range_cm();
     let e: Vec<f64> = case.truth.bands.iter().map(|b| b.centre).collect();
     assert!(
@@ -98,10 +89,7 @@ fn nu1_of_the_out_of_range_nickel_case_lies_below_the_range_and_the_others_insid
 
 #[test]
 fn a_skewed_band_keeps_its_maximum_at_the_centre_and_its_stated_fwhm() {
-    let mut case = hard_cases::all()
-        .into_iter()
-        .find(|c| c.name == "skewed-bands")
-        .unwrap();
+    let mut case = hard_cases::named("skewed-bands");
     case.drawn.truncate(1);
     case.offset = 0.0;
     let b = case.drawn[0].clone();

@@ -324,6 +324,14 @@ pub fn nickel_coverage(noise: f64, seed: u64) -> Case {
     }
 }
 
+/// The case called `name` (panics on a name that is not a case).
+pub fn named(name: &str) -> Case {
+    all()
+        .into_iter()
+        .find(|c| c.name == name)
+        .unwrap_or_else(|| panic!("no hard case is called {name}"))
+}
+
 /// Every hard case of issue 17.
 pub fn all() -> Vec<Case> {
     let oh = Geometry::Octahedral;
