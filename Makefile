@@ -1,5 +1,5 @@
 # The two commands a newcomer needs: `make run` and `make test`.
-.PHONY: run test build web bench check-rust browser-tests reference-checks clean
+.PHONY: run test build web bench survey check-rust browser-tests reference-checks clean
 
 run: web
 	node scripts/serve.mjs 8080
@@ -28,6 +28,9 @@ browser-tests:
 
 bench:  # BASE=REV compares with commit REV in the same run
 	BASE=$(BASE) bash scripts/bench.sh
+
+survey:  # issue 17's hard cases, coverage and textbook sets: a table, not a test
+	cargo run --quiet --release --example trust_survey
 
 clean:
 	rm -rf dist tests/browser/output
