@@ -17,7 +17,7 @@ mod hard_cases;
 use ddlens::estimate::Estimate;
 use ddlens::lf_fit::{self, FitOutcome, FitRequest, ObservedBand, Solution};
 use ddlens::ligand_field::Geometry;
-use ddlens::pipeline::{self, AnalysisOptions};
+use ddlens::analysis::{self, BandSetup, Document, LigandFieldOptions, Source};
 use hard_cases::Case;
 
 /// Noise realisations in the coverage run.
@@ -33,25 +33,39 @@ struct Run {
 /// The one call into the automatic analysis (as `ddlens analyze --ion … --geometry …`
 /// with every other option at its default). Repoint this when the module moves.
 fn analyze(case: &Case) -> Run {
-    let opts = AnalysisOptions {
-        ligand_field: Some(FitRequest {
-            ion: Some(case.ion.to_string()),
-            n: 0,
-            geometry: case.geometry,
-            ..FitRequest::default()
-        }),
-        ..AnalysisOptions::default()
+    let request = FitRequest {
+        ion: Some(case.ion.to_string()),
+        n: 0,
+        geometry: case.geometry,
+        ..FitRequest::default()
     };
-    match pipeline::analyze_file(case.csv().as_bytes(), &case.file_name(), &opts) {
+    let done = Document::import(
+        case.csv().as_bytes(),
+        &case.file_name(),
+        Source::default(),
+        BandSetup::default(),
+    )
+    .and_then(|doc| {
+        let doc = Document {
+            ligand_field: Some(LigandFieldOptions::from(request)),
+            ..doc
+        };
+        analysis::analyze(&doc, &mut |_| true)
+    });
+    match done.map(|d| d.results) {
         Err(e) => Run {
             fit: Err(format!("analysis failed: {e}")),
             centres: Vec::new(),
         },
-        Ok(a) => Run {
-            centres: a.bands.fit.bands.iter().map(|b| b.centre).collect(),
-            fit: a
+        Ok(None) => Run {
+            fit: Err("the analysis gave no results".into()),
+            centres: Vec::new(),
+        },
+        Ok(Some(r)) => Run {
+            centres: r.bands.fit.bands.iter().map(|b| b.centre).collect(),
+            fit: r
                 .fit
-                .ok_or_else(|| a.fit_error.unwrap_or_else(|| "no fit, no reason".into())),
+                .ok_or_else(|| r.fit_error.unwrap_or_else(|| "no fit, no reason".into())),
         },
     }
 }
