@@ -417,8 +417,8 @@ mod tests {
         };
         for i in all_ions() {
             assert_eq!(
-                i.d_electrons as i32,
-                group(i.element) - i.charge as i32,
+                i32::from(i.d_electrons),
+                group(i.element) - i32::from(i.charge),
                 "{}",
                 i.symbol
             );

@@ -211,8 +211,8 @@ fn band_count_selection_prefers_the_true_count() {
     let mut seed = 12345u64;
     let mut noise = || {
         seed = seed
-            .wrapping_mul(6364136223846793005)
-            .wrapping_add(1442695040888963407);
+            .wrapping_mul(6_364_136_223_846_793_005)
+            .wrapping_add(1_442_695_040_888_963_407);
         ((seed >> 11) as f64 / (1u64 << 53) as f64 - 0.5) * 0.01
     };
     let y: Vec<f64> = x

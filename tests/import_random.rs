@@ -12,7 +12,7 @@ impl Rng {
         self.0 ^= self.0 >> 12;
         self.0 ^= self.0 << 25;
         self.0 ^= self.0 >> 27;
-        self.0.wrapping_mul(0x2545F4914F6CDD1D)
+        self.0.wrapping_mul(0x2545_F491_4F6C_DD1D)
     }
     fn below(&mut self, n: usize) -> usize {
         (self.next() % n.max(1) as u64) as usize
@@ -23,7 +23,7 @@ const ALPHABET: &[u8] = b"0123456789.,;\t -+eE@AJjSs%?#$=\n\r\"abcXYZ()";
 
 fn mutate(rng: &mut Rng, seed: &[u8]) -> Vec<u8> {
     let mut bytes = seed.to_vec();
-    for _ in 0..1 + rng.below(8) {
+    for _ in 0..=rng.below(8) {
         let at = rng.below(bytes.len() + 1);
         match rng.below(4) {
             0 if !bytes.is_empty() => {

@@ -303,7 +303,7 @@ fn diagram_spin_change_matches_the_scan() {
             let d = diagram(n, geometry, cb, max, points).unwrap();
             match (d.spin_change, scan) {
                 (Some(a), Some(b)) => {
-                    assert!((a - b).abs() < 1e-6, "d{n} {max}/{points}: {a} vs {b}")
+                    assert!((a - b).abs() < 1e-6, "d{n} {max}/{points}: {a} vs {b}");
                 }
                 (a, b) => assert_eq!(a, b, "d{n} {max}/{points}"),
             }

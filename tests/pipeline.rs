@@ -6,6 +6,7 @@ use ddlens::bands::BaselineModel;
 use ddlens::lf_fit::{FitRequest, ObservedBand};
 use ddlens::ligand_field::{model, Geometry, Params};
 use ddlens::pipeline::{analyze_file, AnalysisOptions, BandCount};
+use std::fmt::Write as _;
 
 /// A CSV in nm (descending, 1 nm steps, as instruments write it) with Gaussian
 /// bands in wavenumber at the first `k` spin-allowed transitions, a sloping
@@ -24,17 +25,17 @@ fn synthetic(n: u8, geometry: Geometry, p: Params, k: usize) -> (String, Vec<f64
     let mut csv = String::from("Wavelength (nm),Abs\n");
     let mut state = 12345u64;
     for nm in (250..=2500).rev() {
-        let x = 1e7 / nm as f64;
+        let x = 1e7 / f64::from(nm);
         let mut y = 0.01 + 2e-7 * x;
         for (i, c) in centres.iter().enumerate() {
             let h = 0.3 + 0.1 * i as f64;
             y += h * (-4.0 * std::f64::consts::LN_2 * ((x - c) / 2600.0).powi(2)).exp();
         }
         state = state
-            .wrapping_mul(6364136223846793005)
-            .wrapping_add(1442695040888963407);
+            .wrapping_mul(6_364_136_223_846_793_005)
+            .wrapping_add(1_442_695_040_888_963_407);
         y += 2e-4 * ((state >> 33) as f64 / (1u64 << 31) as f64 - 0.5);
-        csv.push_str(&format!("{nm},{y:.6}\n"));
+        let _ = writeln!(csv, "{nm},{y:.6}");
     }
     (csv, centres)
 }

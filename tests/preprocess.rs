@@ -25,7 +25,7 @@ fn noise(n: usize, mut state: u64) -> Vec<f64> {
             state ^= state >> 12;
             state ^= state << 25;
             state ^= state >> 27;
-            (state.wrapping_mul(0x2545F4914F6CDD1D) >> 11) as f64 / (1u64 << 53) as f64 - 0.5
+            (state.wrapping_mul(0x2545_F491_4F6C_DD1D) >> 11) as f64 / (1u64 << 53) as f64 - 0.5
         })
         .collect()
 }
@@ -146,7 +146,7 @@ fn spectrum(x: Vec<f64>, y: Vec<f64>) -> Spectrum {
         quantity: Quantity::Absorbance,
         x_unit_read: XUnit::Nanometre,
         saturated: vec![[15_000.0, 16_000.0]],
-        metadata: Default::default(),
+        metadata: std::collections::BTreeMap::new(),
         warnings: vec![],
     }
 }
@@ -154,7 +154,10 @@ fn spectrum(x: Vec<f64>, y: Vec<f64>) -> Spectrum {
 #[test]
 fn crop_resample_and_weights() {
     // Points even in wavelength (400–800 nm) are uneven in wavenumber.
-    let x: Vec<f64> = (0..=400).rev().map(|i| 1e7 / (400.0 + i as f64)).collect();
+    let x: Vec<f64> = (0..=400)
+        .rev()
+        .map(|i| 1e7 / (400.0 + f64::from(i)))
+        .collect();
     let y: Vec<f64> = x.iter().map(|v| 1.0 + 1e-4 * v).collect();
     let s = spectrum(x.clone(), y);
     let c = crop(&s, 15_500.0, 20_000.0);

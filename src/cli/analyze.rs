@@ -48,7 +48,7 @@ pub fn run(words: &[String]) -> Result<String, CliError> {
     if p.json {
         let text = json_text(&analysis)?;
         return match &analysis.fit_error {
-            Some(e) => Err(CliError::FitFailed(text, e.to_string())),
+            Some(e) => Err(CliError::FitFailed(text, e.clone())),
             None => Ok(text),
         };
     }
@@ -80,7 +80,7 @@ pub fn run(words: &[String]) -> Result<String, CliError> {
         (Some(o), _) => super::fit::print_outcome(&mut out, o),
         (None, Some(e)) => {
             outln!(out, "no ligand-field fit: {e}");
-            return Err(CliError::FitFailed(out, e.to_string()));
+            return Err(CliError::FitFailed(out, e.clone()));
         }
         (None, None) => {}
     }

@@ -22,6 +22,7 @@ use ddlens::lf_fit::ObservedBand;
 use ddlens::ligand_field::{parse_configuration, Geometry};
 use ddlens::pipeline::BandCount;
 use ddlens::spectrum::{Quantity, XUnit};
+use std::fmt::Write as _;
 
 /// One option: its spelling, its value, its help and how it updates [`Parsed`].
 pub struct Flag {
@@ -106,6 +107,8 @@ impl Flag {
 }
 
 /// The typed flags of one command line (stage one's result).
+// One field per command-line switch: the bools are the switches themselves, not a hidden state machine.
+#[allow(clippy::struct_excessive_bools)]
 #[derive(Debug, Default)]
 pub struct Parsed {
     pub positionals: Vec<String>,
@@ -794,9 +797,9 @@ pub fn help(header: &str, flags: &[&Flag]) -> String {
         if let Some(v) = f.value {
             spelling = format!("{spelling} {v}");
         }
-        out.push_str(&format!("    {spelling:<22} {}\n", f.help));
+        let _ = writeln!(out, "    {spelling:<22} {}", f.help);
         for line in f.long.lines() {
-            out.push_str(&format!("    {:<22} {line}\n", ""));
+            let _ = writeln!(out, "    {:<22} {line}", "");
         }
     }
     out
