@@ -12,7 +12,9 @@ pub mod lf_fit;
 pub mod ligand_field;
 pub mod pipeline;
 pub mod preprocess;
+pub mod solver;
 pub mod spectrum;
+pub mod stats;
 
 #[cfg(target_arch = "wasm32")]
 pub mod web;

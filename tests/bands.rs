@@ -84,6 +84,7 @@ fn recovers_overlapping_bands_from_the_guess() {
         ties: vec![],
     };
     let fit = bands::fit(&x, &y, None, &model, &FitOptions::default(), &mut |_| true).unwrap();
+    assert_eq!(fit.bands.len(), truth.len());
     for (b, t) in fit.bands.iter().zip(truth) {
         assert!(
             (b.centre.value - t.0).abs() < 1e-3,

@@ -32,10 +32,9 @@ fn deconvolve_json_recovers_the_five_synthetic_bands() {
         .map(|b| b["centre"]["value"].as_f64().unwrap())
         .collect();
     // The generating centres (bench/bands_scipy.py); noise moves them by ≲ 3σ.
-    for (c, t) in centres
-        .iter()
-        .zip([12500.0, 15800.0, 19000.0, 23500.0, 27000.0])
-    {
+    let truth = [12500.0, 15800.0, 19000.0, 23500.0, 27000.0];
+    assert_eq!(centres.len(), truth.len());
+    for (c, t) in centres.iter().zip(truth) {
         assert!((c - t).abs() < 150.0, "{c} vs {t}");
     }
     for key in [

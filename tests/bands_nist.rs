@@ -3,8 +3,9 @@
 //! Outside source: NIST Statistical Reference Datasets, nonlinear regression
 //! (public domain), the `.dat` files as shipped in the lmfit 1.3.4 sdist
 //! (folder NIST_STRD/). `tests/reference/check_nist.py` downloads and unpacks
-//! them and runs this test with `DDLENS_NIST_DIR` set; without that variable
-//! the test reports that it was skipped and passes.
+//! them and runs this test with `DDLENS_NIST_DIR` set and `--ignored`. A
+//! plain `cargo test` counts it as ignored; run with `--ignored` but without
+//! the variable, it fails and says why.
 //!
 //! For each problem and both NIST starting points the certified parameters
 //! must be reproduced to 6 significant digits and the certified standard
@@ -251,11 +252,10 @@ const PROBLEMS: [&str; 18] = [
 const KNOWN_HARD_STARTS: [(&str, usize); 2] = [("BoxBOD", 1), ("MGH10", 1)];
 
 #[test]
+#[ignore = "needs the NIST StRD files: run tests/reference/check_nist.py, which sets DDLENS_NIST_DIR"]
 fn nist_strd_certified_values() {
-    let Ok(dir) = std::env::var("DDLENS_NIST_DIR") else {
-        println!("NIST StRD check skipped: DDLENS_NIST_DIR is not set");
-        return;
-    };
+    let dir = std::env::var("DDLENS_NIST_DIR")
+        .expect("DDLENS_NIST_DIR must name the NIST_STRD folder of the lmfit sdist");
     let opts = LmOptions {
         max_iterations: 5000,
         ftol: 1e-15,
@@ -278,8 +278,12 @@ fn nist_strd_certified_values() {
             let report = lm::solve(&problem, start, &opts, &mut |_| true)
                 .expect("solver refused the problem");
             let (m, n) = (problem.x.len(), start.len());
-            let s2 = report.chi2 / (m - n) as f64;
-            let cov = stats::covariance(&report.jacobian, m, n, &vec![true; n], s2);
+            let scale = stats::ErrorScale::ReducedChi2 {
+                chi2: report.chi2,
+                points: m,
+                parameters: n,
+            };
+            let cov = stats::covariance(&report.jacobian, m, n, &vec![true; n], scale);
             let param_digits = (0..n)
                 .map(|j| digits(report.x[j], problem.certified[j]))
                 .fold(f64::INFINITY, f64::min);

@@ -12,10 +12,12 @@
 //! 10 m mol⁻¹ per unit, so f = 4.319×10⁻⁹ ∫ε dν̃ (CALC; the textbook 4.32×10⁻⁹).
 
 pub mod guess;
-pub mod lm;
+/// The least-squares solver, now [`crate::solver`]; kept under this path for callers.
+pub use crate::solver as lm;
 mod model;
 pub mod shapes;
-pub mod stats;
+/// The fit statistics, now [`crate::stats`]; kept under this path for callers.
+pub use crate::stats;
 
 pub use guess::guess;
 pub use lm::{Progress, StopReason};
@@ -408,13 +410,14 @@ fn compile<'a>(
             fixed[band_start[b] + slot] = true;
         }
     }
-    let mut free_count = 0;
+    let mut free_owner = Vec::new();
     for i in 0..params.len() {
         if tied[i].is_none() && !fixed[i] {
-            params[i].source = Some((free_count, 1.0));
-            free_count += 1;
+            params[i].source = Some((free_owner.len(), 1.0));
+            free_owner.push(i);
         }
     }
+    let free_count = free_owner.len();
     for i in 0..params.len() {
         if let Some((target, factor, offset)) = tied[i] {
             let (tv, ts, to) = (
@@ -445,6 +448,7 @@ fn compile<'a>(
         baseline_start,
         params,
         free_count,
+        free_owner,
         x_mid: 0.5 * (x_min + x_max),
         x_half: 0.5 * span,
         x_max,
@@ -462,10 +466,10 @@ fn free_bounds(c: &Compiled) -> (Vec<f64>, Vec<f64>, Vec<f64>) {
             let (lo, hi) = if f > 0.0 { (a, b) } else { (b, a) };
             lower[k] = lower[k].max(lo);
             upper[k] = upper[k].min(hi);
-            if f == 1.0 && d.offset == 0.0 {
-                start[k] = d.value;
-            }
         }
+    }
+    for (k, &owner) in c.free_owner.iter().enumerate() {
+        start[k] = c.params[owner].value;
     }
     for k in 0..c.free_count {
         if lower[k] > upper[k] {
@@ -512,12 +516,16 @@ fn report_fit(c: &Compiled, report: &lm::LmReport, opts: &FitOptions) -> BandFit
     let p = c.expand(&report.x);
     let mut warnings = Vec::new();
     let include: Vec<bool> = report.at_bound.iter().map(|b| !b).collect();
-    let s2 = if opts.absolute_sigma {
-        1.0
+    let scale = if opts.absolute_sigma {
+        stats::ErrorScale::Absolute
     } else {
-        report.chi2 / (m - n) as f64
+        stats::ErrorScale::ReducedChi2 {
+            chi2: report.chi2,
+            points: m,
+            parameters: n,
+        }
     };
-    let cov = stats::covariance(&report.jacobian, m, n, &include, s2);
+    let cov = stats::covariance(&report.jacobian, m, n, &include, scale);
     if cov.is_none() {
         warnings
             .push("the covariance matrix could not be computed; no uncertainties are given".into());
@@ -798,6 +806,7 @@ pub fn evaluate_bands(
             })
             .collect(),
         free_count: 0,
+        free_owner: Vec::new(),
         x_mid,
         x_half: if x_half.is_finite() && x_half != 0.0 {
             x_half
@@ -879,6 +888,31 @@ pub fn select_band_count(
 mod tests {
     use super::*;
     use lm::LeastSquares;
+
+    /// Issue 14: the free slot of a width tie belongs to the target band, so
+    /// the fit starts from the target's FWHM, not from the tied band's own.
+    #[test]
+    fn a_width_tie_starts_from_its_targets_width() {
+        let x: Vec<f64> = (0..40).map(|i| 10_000.0 + 500.0 * i as f64).collect();
+        let y = vec![1.0; x.len()];
+        let band = |centre: f64, fwhm: f64| BandSpec {
+            shape: Shape::Gaussian,
+            centre,
+            fwhm,
+            height: 1.0,
+            extra: None,
+            fixed: Vec::new(),
+        };
+        let model = BandModel {
+            bands: vec![band(15_000.0, 2_000.0), band(22_000.0, 3_500.0)],
+            baseline: BaselineModel::None,
+            ties: vec![Tie::EqualFwhm { band: 1, to: 0 }],
+        };
+        let c = compile(&x, &y, None, &model).unwrap();
+        let (_, _, start) = free_bounds(&c);
+        let (k, _) = c.params[c.band_start[0] + 1].source.unwrap();
+        assert_eq!(start[k], 2_000.0);
+    }
 
     /// The tied, fixed and baseline Jacobian (J·A) against central differences.
     #[test]

@@ -13,9 +13,9 @@
 //! [0, 6]), and a charge-transfer tail a₀ + a Gaussian whose centre is held
 //! above the highest wavenumber of the data.
 
-use super::lm::LeastSquares;
 use super::shapes::{self, Shape};
 use super::BaselineModel;
+use crate::solver::LeastSquares;
 
 /// One model parameter: its name, bounds and how it derives from q.
 #[derive(Debug, Clone)]
@@ -41,6 +41,9 @@ pub(crate) struct Compiled<'a> {
     pub baseline_start: usize,
     pub params: Vec<ParamDef>,
     pub free_count: usize,
+    /// For each free slot k, the index into p of the parameter that owns it
+    /// (the untied parameter whose value starts q[k]).
+    pub free_owner: Vec<usize>,
     pub x_mid: f64,
     pub x_half: f64,
     pub x_max: f64,

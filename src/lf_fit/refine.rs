@@ -5,6 +5,7 @@ use super::search::{is_candidate, keys, start_index, Tuple};
 use super::{Assigned, Derived, LfFitError, Parameters, Predicted, Problem, Solution, SpinState};
 use crate::estimate::Estimate;
 use crate::ligand_field::{check_params, model, spin_change, Geometry, Level, Params};
+use crate::stats::{self, Covariance, ErrorScale};
 use nalgebra::{DMatrix, DVector};
 
 /// Which parameters are free.
@@ -245,25 +246,25 @@ fn pairwise_b(p: &Problem, t: &Tuple, theta: &[f64]) -> Option<(f64, f64)> {
     (bs.len() >= 2).then_some((lo, hi))
 }
 
-/// The covariance of θ: (JᵀJ)⁻¹, scaled by χ²/(k − p) when over-determined.
-fn covariance(ev: &Eval, dof: i64) -> Option<DMatrix<f64>> {
-    let h = ev.jacobian.transpose() * &ev.jacobian;
-    let inv = h.try_inverse()?;
-    let scale = if dof > 0 {
-        ev.residual.norm_squared() / dof as f64
-    } else {
-        1.0
+/// The covariance of θ: (JᵀJ)⁺, scaled by χ²/(k − p) when over-determined
+/// (by 1 when exactly determined), from [`crate::stats`]. A rank-deficient
+/// J, or one with condition above 1/√ε (so JᵀJ has no digit left), gives
+/// None: those bands do not determine every parameter.
+fn covariance(ev: &Eval, points: usize, parameters: usize) -> Option<Covariance> {
+    let scale = ErrorScale::ReducedChi2 {
+        chi2: ev.residual.norm_squared(),
+        points,
+        parameters,
     };
-    let c = inv * scale;
-    c.iter().all(|v| v.is_finite()).then_some(c)
+    let include = vec![true; parameters];
+    stats::covariance(ev.jacobian.as_slice(), points, parameters, &include, scale)
+        .filter(|c| !c.rank_deficient && c.condition < f64::EPSILON.sqrt().recip())
 }
 
-fn propagate(cov: Option<&DMatrix<f64>>, value: f64, grad: &[f64]) -> Estimate {
-    match cov {
-        Some(c) => {
-            let g = DVector::from_column_slice(grad);
-            Estimate::new(value, (g.transpose() * c * &g)[(0, 0)].max(0.0).sqrt())
-        }
+/// The value with its propagated σ, or exact when σ cannot be estimated.
+fn propagate(cov: Option<&Covariance>, value: f64, grad: &[f64]) -> Estimate {
+    match cov.and_then(|c| c.propagate(grad)) {
+        Some(sigma) => Estimate::new(value, sigma),
         None => Estimate::exact(value),
     }
 }
@@ -279,7 +280,7 @@ fn build(
     let np = free.count();
     let dof = k as i64 - np as i64;
     let chi2 = ev.residual.norm_squared();
-    let cov = covariance(ev, dof);
+    let cov = covariance(ev, k, np);
     if cov.is_none() {
         warnings.push(
             "these bands do not determine the parameters (singular matrix): no uncertainties"
@@ -485,25 +486,13 @@ fn build(
         chi2,
         degrees_of_freedom: dof,
         free: free.names(),
-        correlation: correlation(c),
+        correlation: c.map(Covariance::correlation).unwrap_or_default(),
         delta_chi2: 0.0,
         plausible,
         warnings,
         notes,
         score: chi2 + 4.0 * skipped as f64,
     })
-}
-
-fn correlation(cov: Option<&DMatrix<f64>>) -> Vec<Vec<f64>> {
-    let Some(c) = cov else { return Vec::new() };
-    (0..c.nrows())
-        .map(|i| {
-            (0..c.ncols())
-                .map(|j| c[(i, j)] / (c[(i, i)] * c[(j, j)]).sqrt())
-                .map(|v| if v.is_finite() { v } else { 0.0 })
-                .collect()
-        })
-        .collect()
 }
 
 fn spin_state(p: &Problem, levels: &[Level], pr: Params, delta_over_b: Option<f64>) -> SpinState {

@@ -10,7 +10,15 @@
 //! * χ², χ²_ν = χ²/(N − P), R² = 1 − χ²/Σw(y − ȳ)², and the lmfit
 //!   definitions AIC = N ln(χ²/N) + 2P, BIC = N ln(χ²/N) + ln(N)·P.
 
+//!
+//! Non-finite Jacobians (or ones whose QR overflows, entries beyond about
+//! 1e154) give no covariance rather than reaching the SVD, and the SVD is
+//! iteration-bounded.
+
 use nalgebra::DMatrix;
+
+/// Iteration cap of the SVD (nalgebra's `try_svd`).
+const SVD_MAX_ITERATIONS: usize = 1000;
 
 /// The parameter covariance of a least-squares fit.
 #[derive(Debug, Clone)]
@@ -65,14 +73,44 @@ impl Covariance {
     }
 }
 
+/// How the covariance is scaled: the s² in C = s²·(JᵀJ)⁺.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum ErrorScale {
+    /// s² = χ²/(N − P): errors scaled by the reduced χ² (lmfit
+    /// `scale_covar=True`, SciPy `absolute_sigma=False`, NIST StRD). With no
+    /// degrees of freedom left, s² = 1.
+    ReducedChi2 {
+        chi2: f64,
+        points: usize,
+        parameters: usize,
+    },
+    /// s² = 1: the weights are absolute 1/σ².
+    Absolute,
+}
+
+impl ErrorScale {
+    /// The factor s².
+    pub fn s2(self) -> f64 {
+        match self {
+            ErrorScale::ReducedChi2 {
+                chi2,
+                points,
+                parameters,
+            } if points > parameters => chi2 / (points - parameters) as f64,
+            _ => 1.0,
+        }
+    }
+}
+
 /// C = s²·(JᵀJ)⁺ over the columns with `include[j]`; J column-major m×n.
 pub fn covariance(
     jacobian: &[f64],
     m: usize,
     n: usize,
     include: &[bool],
-    s2: f64,
+    scale: ErrorScale,
 ) -> Option<Covariance> {
+    let s2 = scale.s2();
     let cols: Vec<usize> = (0..n)
         .filter(|&j| include.get(j).copied().unwrap_or(false))
         .collect();
@@ -80,10 +118,16 @@ pub fn covariance(
     if k == 0 || jacobian.len() != m * n || m < k {
         return None;
     }
+    if !s2.is_finite() || !jacobian.iter().all(|v| v.is_finite()) {
+        return None;
+    }
     let j_sub = DMatrix::from_fn(m, k, |i, c| jacobian[cols[c] * m + i]);
     // QR first: the SVD of the small R has the singular values of J.
     let r = j_sub.qr().r();
-    let svd = r.svd(false, true);
+    if !r.iter().all(|v| v.is_finite()) {
+        return None;
+    }
+    let svd = r.try_svd(false, true, f64::EPSILON, SVD_MAX_ITERATIONS)?;
     let v_t = svd.v_t?;
     let s_max = svd.singular_values.max();
     if s_max.is_nan() || s_max <= 0.0 || !s_max.is_finite() {
@@ -145,5 +189,43 @@ pub fn goodness(chi2: f64, points: usize, parameters: usize, weighted_y_dev: f64
         r2,
         aic: log_term.map(|l| l + 2.0 * p),
         bic: log_term.map(|l| l + n.ln() * p),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Issue 20: 40 rows of ±1e300 used to spin in the SVD.
+    #[test]
+    fn a_jacobian_of_1e300_has_no_covariance() {
+        let jac: Vec<f64> = (0..80)
+            .map(|i| if i % 2 == 0 { 1e300 } else { -1e300 })
+            .collect();
+        assert!(covariance(&jac, 40, 2, &[true, true], ErrorScale::Absolute).is_none());
+        let mut nan = vec![1.0; 80];
+        nan[3] = f64::NAN;
+        assert!(covariance(&nan, 40, 2, &[true, true], ErrorScale::Absolute).is_none());
+    }
+
+    /// J = [[1, 0], [0, 2], [0, 0]]: (JᵀJ)⁻¹ = diag(1, 1/4) by hand.
+    #[test]
+    fn a_diagonal_jacobian_gives_the_inverse_squares() {
+        let jac = [1.0, 0.0, 0.0, 0.0, 2.0, 0.0];
+        let c = covariance(&jac, 3, 2, &[true, true], ErrorScale::Absolute).unwrap();
+        assert!((c.sigma(0).unwrap() - 1.0).abs() < 1e-15);
+        assert!((c.sigma(1).unwrap() - 0.5).abs() < 1e-15);
+    }
+
+    #[test]
+    fn the_reduced_chi2_scale_divides_by_the_degrees_of_freedom() {
+        let scale = |points| ErrorScale::ReducedChi2 {
+            chi2: 12.0,
+            points,
+            parameters: 2,
+        };
+        assert_eq!(scale(6).s2(), 3.0);
+        assert_eq!(scale(2).s2(), 1.0);
+        assert_eq!(ErrorScale::Absolute.s2(), 1.0);
     }
 }

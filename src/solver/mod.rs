@@ -21,6 +21,15 @@
 //! flaw of sin/sqrt transforms) and lets a parameter leave a bound again.
 //! A start exactly on a bound is nudged inside by 1e-10 of the box width.
 //!
+//! Before every Cholesky or SVD the normal equations are checked for NaN and
+//! infinity (a Jacobian of ±1e300 overflows JᵀJ): at the start that is the
+//! typed error [`LmError::Overflow`]; later, a trial point whose system
+//! overflows is rejected like one that raises χ². The SVD fallback is
+//! iteration-bounded.
+//!
+//! This is the one least-squares solver of the crate: the band fit and the
+//! NIST StRD checks run through [`solve`].
+//!
 //! The solver always returns the best point found, with the reason it stopped
 //! and the number of model evaluations; it never turns an iteration limit or
 //! a cancellation into an error.
@@ -153,6 +162,9 @@ pub enum LmError {
     BadSetup(String),
     /// The model gives NaN or infinity at the starting point.
     StartNotFinite,
+    /// χ² or JᵀJ overflows at the starting point (residuals or derivatives
+    /// beyond about 1e150).
+    Overflow,
 }
 
 impl fmt::Display for LmError {
@@ -165,6 +177,9 @@ impl fmt::Display for LmError {
             LmError::BadSetup(m) => write!(f, "the fit is set up wrongly: {m}"),
             LmError::StartNotFinite => f.write_str(
                 "the model cannot be evaluated at the starting values (NaN or infinity); change the starting values",
+            ),
+            LmError::Overflow => f.write_str(
+                "the residuals or their derivatives are too large to fit (χ² overflows); rescale the data or change the starting values",
             ),
         }
     }
@@ -203,19 +218,28 @@ fn normal_equations(jac: &[f64], r: &[f64], m: usize, n: usize) -> (DMatrix<f64>
     (a, g)
 }
 
+/// True when JᵀJ and Jᵀr hold only finite numbers.
+fn system_finite(a: &DMatrix<f64>, g: &DVector<f64>) -> bool {
+    a.iter().chain(g.iter()).all(|v| v.is_finite())
+}
+
+/// Iteration cap of the SVD fallback (nalgebra's `try_svd`).
+const SVD_MAX_ITERATIONS: usize = 1000;
+
 /// Solves the damped system on the free parameters; frozen ones get δ = 0.
+/// None when the damped matrix is not finite or its SVD does not converge.
 fn damped_step(
     a: &DMatrix<f64>,
     g: &DVector<f64>,
     diag: &[f64],
     lambda: f64,
     free: &[bool],
-) -> Vec<f64> {
+) -> Option<Vec<f64>> {
     let idx: Vec<usize> = (0..free.len()).filter(|&j| free[j]).collect();
     let k = idx.len();
     let mut step = vec![0.0; free.len()];
     if k == 0 {
-        return step;
+        return Some(step);
     }
     let mut mat = DMatrix::zeros(k, k);
     let mut rhs = DVector::zeros(k);
@@ -226,10 +250,13 @@ fn damped_step(
         }
         mat[(p, p)] += lambda * diag[i];
     }
+    if !system_finite(&mat, &rhs) {
+        return None;
+    }
     let solution = match mat.clone().cholesky() {
         Some(ch) => ch.solve(&rhs),
         None => {
-            let svd = mat.svd(true, true);
+            let svd = mat.try_svd(true, true, f64::EPSILON, SVD_MAX_ITERATIONS)?;
             let tol = f64::EPSILON * k as f64 * svd.singular_values.max();
             svd.solve(&rhs, tol).unwrap_or_else(|_| DVector::zeros(k))
         }
@@ -241,7 +268,7 @@ fn damped_step(
             0.0
         };
     }
-    step
+    Some(step)
 }
 
 /// Minimises Σ r(x)² from `x0`; see the module documentation for the method.
@@ -301,6 +328,9 @@ pub fn solve(
     }
     let mut chi2 = dot(&r, &r);
     let (mut a, mut g) = normal_equations(&jac, &r, m, n);
+    if !chi2.is_finite() || !system_finite(&a, &g) {
+        return Err(LmError::Overflow);
+    }
     let mut diag: Vec<f64> = (0..n).map(|j| a[(j, j)]).collect();
     let mut lambda = 1e-3;
     let mut nu = 2.0;
@@ -337,7 +367,9 @@ pub fn solve(
         if gradient_cosine <= opts.gtol {
             break StopReason::ConvergedGradient;
         }
-        let raw = damped_step(&a, &g, &scale, lambda, &free);
+        let Some(raw) = damped_step(&a, &g, &scale, lambda, &free) else {
+            break StopReason::NoProgress;
+        };
         let x_trial: Vec<f64> = (0..n)
             .map(|j| (x[j] + raw[j]).clamp(lower[j], upper[j]))
             .collect();
@@ -366,14 +398,17 @@ pub fn solve(
             f64::INFINITY
         };
         let actual = chi2 - chi2_trial;
-        if ok && actual > 0.0 && predicted > 0.0 {
+        let trial_system = (ok && actual > 0.0 && predicted > 0.0)
+            .then(|| normal_equations(&jac_trial, &r_trial, m, n))
+            .filter(|(a_t, g_t)| system_finite(a_t, g_t));
+        if let Some(system) = trial_system {
             let rho = actual / predicted;
             let old_chi2 = chi2;
             x = x_trial;
             std::mem::swap(&mut r, &mut r_trial);
             std::mem::swap(&mut jac, &mut jac_trial);
             chi2 = chi2_trial;
-            (a, g) = normal_equations(&jac, &r, m, n);
+            (a, g) = system;
             for j in 0..n {
                 diag[j] = diag[j].max(a[(j, j)]);
             }
@@ -431,5 +466,65 @@ fn start_inside(x: f64, lo: f64, hi: f64) -> f64 {
         (hi - nudge).max(lo)
     } else {
         x
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::time::{Duration, Instant};
+
+    /// rᵢ = ±scale·(x − shift): 40 rows, one parameter.
+    struct Huge {
+        scale: f64,
+        shift: f64,
+    }
+
+    impl LeastSquares for Huge {
+        fn residual_count(&self) -> usize {
+            40
+        }
+        fn parameter_count(&self) -> usize {
+            1
+        }
+        fn evaluate(&self, x: &[f64], r: &mut [f64], jac: Option<&mut [f64]>) -> bool {
+            let sign = |i: usize| if i % 2 == 0 { 1.0 } else { -1.0 };
+            for (i, v) in r.iter_mut().enumerate() {
+                *v = sign(i) * self.scale * (x[0] - self.shift);
+            }
+            if let Some(j) = jac {
+                for (i, v) in j.iter_mut().enumerate() {
+                    *v = sign(i) * self.scale;
+                }
+            }
+            true
+        }
+    }
+
+    /// Issue 20: ±1e300 residuals or derivatives overflow χ² or JᵀJ.
+    #[test]
+    fn a_jacobian_of_1e300_ends_within_a_second_with_a_message() {
+        for shift in [0.0, 1.0] {
+            let started = Instant::now();
+            let problem = Huge {
+                scale: 1e300,
+                shift,
+            };
+            let result = solve(&problem, &[1.0], &LmOptions::default(), &mut |_| true);
+            assert!(started.elapsed() < Duration::from_secs(1));
+            let err = result.unwrap_err();
+            assert_eq!(err, LmError::Overflow);
+            assert!(err.to_string().contains("too large"));
+        }
+    }
+
+    #[test]
+    fn a_damped_system_that_is_not_finite_gives_no_step() {
+        let a = DMatrix::from_element(1, 1, f64::INFINITY);
+        let g = DVector::from_element(1, 1.0);
+        assert_eq!(damped_step(&a, &g, &[1.0], 1e-3, &[true]), None);
+        let a = DMatrix::from_element(1, 1, 4.0);
+        let step = damped_step(&a, &g, &[1.0], 0.0, &[true]).unwrap();
+        assert_eq!(step, vec![-0.25]);
     }
 }
