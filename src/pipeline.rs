@@ -315,7 +315,9 @@ fn deconvolve_with(
             if specs.is_empty() {
                 return Err(AnalysisError::TooFewPoints(x.len()));
             }
-            specs.iter_mut().for_each(|b| b.shape = opts.shape);
+            for b in &mut specs {
+                b.shape = opts.shape;
+            }
             let model = BandModel {
                 bands: specs,
                 baseline,

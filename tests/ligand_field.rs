@@ -386,6 +386,8 @@ fn labels_are_unique() {
 /// The frame returned by the drawing maps Δ/B to pixels: the fitted Δ/B line
 /// (Okabe–Ito vermillion, src/ligand_field/draw.rs) lies where the frame says.
 #[test]
+// Exact comparison meant: the frame returns the requested axis ends unchanged.
+#[allow(clippy::float_cmp)]
 fn diagram_frame_maps_delta_over_b_to_pixels() {
     use ddlens::figures::diagram::{draw_diagram, DiagramStyle};
     use plotters::prelude::{IntoDrawingArea, SVGBackend};

@@ -24,7 +24,7 @@ pub fn guess(x: &[f64], y: &[f64], n: Option<usize>) -> Vec<BandSpec> {
         .filter(|(a, b)| a.is_finite() && b.is_finite())
         .collect();
     pts.sort_by(|a, b| a.0.total_cmp(&b.0));
-    pts.dedup_by(|a, b| a.0 == b.0);
+    pts.dedup_by(|a, b| a.0.total_cmp(&b.0).is_eq()); // exactly repeated x only
     if pts.len() < 7 || n == Some(0) {
         return Vec::new();
     }

@@ -681,6 +681,8 @@ pub const RANGE: Flag = Flag::takes("--range", "LO:HI", "use only LO–HI cm⁻�
 mod range_tests {
     use super::*;
     #[test]
+    // Exact comparison meant: parsed decimal literals are exact.
+    #[allow(clippy::float_cmp)]
     fn a_range_needs_two_finite_ends_in_order() {
         assert_eq!(parse_range("8000:30000").unwrap(), [8000.0, 30000.0]);
         assert!(parse_range("30000:8000").is_err());

@@ -4,7 +4,7 @@
 //! this module finds which transitions they are and the Dq, B (and C) that
 //! reproduce them, with honest uncertainties:
 //!
-//! 1. **Candidates** ([`search`]): the transitions from the ground level —
+//! 1. **Candidates** (`search`): the transitions from the ground level —
 //!    for d⁴–d⁷ from both the high-spin and the low-spin ground level — to
 //!    every level of the same spin (spin-allowed) and, on request, of spin
 //!    differing by one (spin-forbidden, ΔS = ±1).
@@ -13,7 +13,7 @@
 //!    over Δ/B at fixed C/B where B enters linearly (energies scale with B at
 //!    fixed Δ/B and C/B), so the best B at each Δ/B is a weighted linear
 //!    least-squares solution.
-//! 3. **Fit** ([`refine`]): the best-scoring assignments are refined by
+//! 3. **Fit** (`refine`): the best-scoring assignments are refined by
 //!    Levenberg–Marquardt on (Dq, B) with C = (C/B)·B, or on (Dq, B, C) when at
 //!    least three bands are assigned and C is freed, using the engine's
 //!    Hellmann–Feynman derivatives. The covariance is (JᵀJ)⁻¹ of the weighted

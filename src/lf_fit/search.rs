@@ -59,7 +59,7 @@ pub(crate) fn is_candidate(start: u8, multiplicity: u8, spin_forbidden: bool) ->
         || (spin_forbidden && (i16::from(multiplicity) - i16::from(start)).abs() == 2)
 }
 
-fn forced_ok(level: &Level, forced: &Option<String>) -> bool {
+fn forced_ok(level: &Level, forced: Option<&str>) -> bool {
     match forced {
         None => true,
         Some(f) => {
@@ -77,6 +77,10 @@ fn forced_ok(level: &Level, forced: &Option<String>) -> bool {
 
 /// All order-preserving assignments, best-scanned first (at most `LIMIT`,
 /// plus all that satisfy forced assignments).
+#[expect(
+    clippy::too_many_lines,
+    reason = "over the ~100-line limit; to be split into named steps (issue 15)"
+)]
 pub(crate) fn assignments(p: &Problem) -> Result<Vec<Tuple>, LfFitError> {
     const LIMIT: usize = 10;
     const MAX_COMBINATIONS: usize = 4000;
@@ -91,7 +95,7 @@ pub(crate) fn assignments(p: &Problem) -> Result<Vec<Tuple>, LfFitError> {
                 b: 1.0,
                 c: p.gamma,
             })
-            .is_ok_and(|ls| ls.iter().any(|l| forced_ok(l, &Some(f.clone()))))
+            .is_ok_and(|ls| ls.iter().any(|l| forced_ok(l, Some(f.as_str()))))
         });
         if !any {
             return Err(LfFitError::UnknownState(f.clone()));
@@ -130,7 +134,7 @@ pub(crate) fn assignments(p: &Problem) -> Result<Vec<Tuple>, LfFitError> {
                         && (allowed(j)
                             || forced
                                 .iter()
-                                .any(|f| forced_ok(&levels[j], f) && f.is_some()))
+                                .any(|f| forced_ok(&levels[j], f.as_deref()) && f.is_some()))
                 })
                 .collect();
             any_candidate |= !cands.is_empty();
@@ -140,11 +144,9 @@ pub(crate) fn assignments(p: &Problem) -> Result<Vec<Tuple>, LfFitError> {
             }
             for combo in combinations(c, k) {
                 let finals: Vec<usize> = combo.iter().map(|&i| cands[i]).collect();
-                if finals
-                    .iter()
-                    .zip(&forced)
-                    .all(|(&j, f)| forced_ok(&levels[j], f) && (f.is_some() || allowed(j)))
-                {
+                if finals.iter().zip(&forced).all(|(&j, f)| {
+                    forced_ok(&levels[j], f.as_deref()) && (f.is_some() || allowed(j))
+                }) {
                     set.insert((s, finals.iter().map(|&j| ks[j].clone()).collect()));
                 }
             }

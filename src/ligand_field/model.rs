@@ -196,11 +196,11 @@ fn configuration_name(geometry: Geometry, n: u8, eigenvalue: f64) -> String {
     };
     match geometry {
         Geometry::Octahedral => {
-            let eg = ((eigenvalue + 4.0 * n as f64) / 10.0).round() as i64;
+            let eg = ((eigenvalue + 4.0 * f64::from(n)) / 10.0).round() as i64;
             format!("{}{}", part("t2g", n_i - eg), part("eg", eg))
         }
         Geometry::Tetrahedral => {
-            let t2 = ((eigenvalue + 6.0 * n as f64) / 10.0).round() as i64;
+            let t2 = ((eigenvalue + 6.0 * f64::from(n)) / 10.0).round() as i64;
             format!("{}{}", part("e", n_i - t2), part("t2", t2))
         }
     }

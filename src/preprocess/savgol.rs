@@ -129,7 +129,7 @@ mod tests {
         // A least-squares polynomial fit reproduces any polynomial of degree ≤ order exactly.
         let y: Vec<f64> = (0..30)
             .map(|i| {
-                let x = i as f64;
+                let x = f64::from(i);
                 0.5 - 0.2 * x + 0.03 * x * x - 0.001 * x * x * x
             })
             .collect();

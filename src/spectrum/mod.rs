@@ -10,7 +10,7 @@
 //! - [`jcamp`] and [`asdf`] read JCAMP-DX 4.24/5.x (AFFN and ASDF compression);
 //! - [`units`] converts the x axis (nm, µm, cm⁻¹, eV, optional air→vacuum) and
 //!   the y quantity (T, %T, log ε → A or ε);
-//! - [`assemble`] sorts, averages duplicate x, flags saturation;
+//! - `assemble` sorts, averages duplicate x, flags saturation;
 //! - [`project`] recognises the saved-analysis JSON envelope;
 //!
 //! Readers produce [`RawSpectrum`]s in file units; `assemble` makes them

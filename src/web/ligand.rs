@@ -61,7 +61,7 @@ pub fn analyze(spectrum: JsValue, options: JsValue) -> Result<JsValue, JsError> 
         quantity: s.quantity.unwrap_or(Quantity::Absorbance),
         x_unit_read: XUnit::Wavenumber,
         saturated: s.saturated,
-        metadata: Default::default(),
+        metadata: std::collections::BTreeMap::new(),
         warnings: Vec::new(),
     };
     to_js(&pipeline::analyze_spectrum(&spectrum, &opts, &mut |_| {

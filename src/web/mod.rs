@@ -112,7 +112,7 @@ pub fn import_spectrum(
     options: JsValue,
 ) -> Result<JsValue, JsError> {
     let opts: crate::spectrum::ImportOptions = if options.is_null() || options.is_undefined() {
-        Default::default()
+        crate::spectrum::ImportOptions::default()
     } else {
         from_js(options, "the import settings")?
     };
@@ -189,14 +189,13 @@ pub fn deconvolve_bands(
             .unwrap_or(crate::spectrum::Quantity::Absorbance),
         x_unit_read: crate::spectrum::XUnit::Wavenumber,
         saturated: req.saturated,
-        metadata: Default::default(),
+        metadata: std::collections::BTreeMap::new(),
         warnings: Vec::new(),
     };
     let mut report = |p: crate::bands::Progress| {
         progress
             .call1(&JsValue::NULL, &JsValue::from_f64(p.iteration as f64))
-            .map(|v| v.as_bool() != Some(false))
-            .unwrap_or(true)
+            .map_or(true, |v| v.as_bool() != Some(false))
     };
     let d = match &req.model {
         Some(model) => crate::pipeline::refit(&spectrum, model, &req.options, &mut report),
