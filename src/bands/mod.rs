@@ -485,6 +485,33 @@ fn free_bounds(c: &Compiled) -> (Vec<f64>, Vec<f64>, Vec<f64>) {
 }
 
 /// Fits `model` to (x, y); x in cm⁻¹. `weights` multiply the squared residuals.
+///
+/// One Gaussian on a sloping line, started 400 cm⁻¹ off: the fit finds the
+/// band, and its area is h·FWHM·√(π / (4 ln 2)), the Gaussian integral:
+///
+/// ```
+/// use ddlens::bands::{fit, BandModel, BandSpec, BaselineModel, FitOptions, Shape};
+///
+/// let x: Vec<f64> = (0..300).map(|i| 12_000.0 + 40.0 * f64::from(i)).collect();
+/// let gauss = |v: f64| 0.8 * (-4.0 * 2f64.ln() * ((v - 17_500.0) / 2_600.0).powi(2)).exp();
+/// let y: Vec<f64> = x.iter().map(|&v| gauss(v) + 0.02 + 1e-6 * v).collect();
+/// let start = BandSpec {
+///     shape: Shape::Gaussian,
+///     centre: 17_900.0,
+///     fwhm: 2_000.0,
+///     height: 0.5,
+///     extra: None,
+///     fixed: vec![],
+/// };
+/// let model = BandModel { bands: vec![start], baseline: BaselineModel::Linear, ties: vec![] };
+/// let result = fit(&x, &y, None, &model, &FitOptions::default(), &mut |_| true)?;
+/// let band = &result.bands[0];
+/// assert!((band.centre.value - 17_500.0).abs() < 1e-3);
+/// assert!((band.fwhm.value - 2_600.0).abs() < 1e-3);
+/// let area = 0.8 * 2_600.0 * (std::f64::consts::PI / (4.0 * 2f64.ln())).sqrt();
+/// assert!((band.area.value - area).abs() < 1e-6 * area);
+/// # Ok::<(), ddlens::bands::BandFitError>(())
+/// ```
 pub fn fit(
     x: &[f64],
     y: &[f64],
