@@ -123,6 +123,10 @@ fn percent_transmittance_becomes_absorbance() {
         (600.0, 1.0),
         (500.0, 0.0),
     ];
+    assert_eq!(
+        (s.wavenumber.len(), s.values.len()),
+        (expected.len(), expected.len())
+    );
     for ((w, v), (nm, a)) in s.wavenumber.iter().zip(&s.values).zip(expected) {
         assert!(close(*w, 1e7 / nm, 1e-12));
         assert!((v - a).abs() < 1e-12);

@@ -256,6 +256,7 @@ fn hellmann_feynman_derivatives_match_finite_differences() {
     let base = m.levels(&p).unwrap();
     let h = 1e-3;
     let shifted = m.levels(&Params { dq: p.dq + h, ..p }).unwrap();
+    assert!(base.len() >= 6 && shifted.len() == base.len());
     for (a, s) in base.iter().zip(&shifted).take(6) {
         assert_eq!(a.label, s.label);
         assert!(

@@ -52,6 +52,7 @@ fn banded_whittaker_solve_equals_a_dense_solve() {
     // A straight line has zero second differences, so it passes unchanged for any λ.
     let line: Vec<f64> = (0..n).map(|i| 0.3 + 0.01 * i as f64).collect();
     let smooth = whittaker_smooth(&line, &vec![1.0; n], 1e8).unwrap();
+    assert_eq!(smooth.len(), line.len());
     assert!(line.iter().zip(&smooth).all(|(a, b)| (a - b).abs() < 1e-6));
 }
 
@@ -77,6 +78,7 @@ fn asls_and_arpls_recover_a_linear_baseline_under_a_band() {
         BaselineMethod::Arpls { lambda: 1e7 },
     ] {
         let z = baseline(&x, &y, &method).unwrap();
+        assert_eq!(z.len(), base.len());
         let worst = z
             .iter()
             .zip(&base)
@@ -98,6 +100,7 @@ fn rubber_band_of_a_line_plus_a_positive_band_is_the_line() {
         .map(|(v, l)| l + gaussian(*v, 25_000.0, 4000.0, 1.0))
         .collect();
     let z = baseline(&x, &y, &BaselineMethod::RubberBand).unwrap();
+    assert_eq!(z.len(), line.len());
     assert!(z.iter().zip(&line).all(|(a, b)| (a - b).abs() < 1e-9));
 }
 
@@ -111,6 +114,7 @@ fn polynomial_on_band_free_regions_is_exact_for_a_quadratic() {
         .collect();
     let regions = vec![[10_000.0, 18_000.0], [32_000.0, 40_000.0]];
     let z = baseline(&x, &y, &BaselineMethod::Polynomial { order: 2, regions }).unwrap();
+    assert_eq!(z.len(), x.len());
     // Least squares reproduces a polynomial of the fitted order; the band contributes < 1e-9 there.
     assert!(x.iter().zip(&z).all(|(&v, b)| (quad(v) - b).abs() < 1e-6));
 }
@@ -126,6 +130,7 @@ fn scattering_curve_is_recovered_with_fixed_and_free_exponent() {
         .collect();
     for exponent in [Some(4.0), None] {
         let z = baseline(&x, &y, &BaselineMethod::Scattering { exponent }).unwrap();
+        assert_eq!(z.len(), scatter.len());
         let worst = z
             .iter()
             .zip(&scatter)
@@ -174,6 +179,7 @@ fn crop_resample_and_weights() {
         .windows(2)
         .all(|w| ((w[1] - w[0]) - step).abs() < 1e-9));
     // Linear interpolation reproduces a linear function exactly.
+    assert_eq!(r.values.len(), r.wavenumber.len());
     assert!(r
         .wavenumber
         .iter()
