@@ -25,13 +25,18 @@ impl Estimate {
     }
 }
 
+/// Significant digits an uncertainty is written with.
+pub const SIGMA_DIGITS: usize = 2;
+/// Significant digits of a value written without uncertainty.
+pub const PLAIN_DIGITS: usize = 6;
+
 impl std::fmt::Display for Estimate {
     /// Writes the value the way chemists write it: `17400 ± 60`, the value
     /// rounded to the decade of the uncertainty's two significant digits.
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
         match self.sigma {
             Some(s) if s > 0.0 => {
-                let decade = s.log10().floor() as i32 - 1;
+                let decade = s.log10().floor() as i32 - (SIGMA_DIGITS as i32 - 1);
                 let digits = (-decade).max(0) as usize;
                 write!(f, "{:.*} ± {:.*}", digits, self.value, digits, s)
             }
@@ -42,7 +47,11 @@ impl std::fmt::Display for Estimate {
                 } else {
                     self.value.abs().log10().floor() as i32
                 };
-                let text = format!("{:.*}", (5 - mag).max(0) as usize, self.value);
+                let text = format!(
+                    "{:.*}",
+                    (PLAIN_DIGITS as i32 - 1 - mag).max(0) as usize,
+                    self.value
+                );
                 let text = if text.contains('.') {
                     text.trim_end_matches('0').trim_end_matches('.')
                 } else {

@@ -4,13 +4,13 @@
 //! imports wasm-bindgen, web-sys or js-sys, and runs under `cargo test`.
 //! See DEVELOPERS.md for the code map and the invariants.
 
+pub mod analysis;
 pub mod bands;
 pub mod estimate;
 pub mod figures;
 pub mod ions;
 pub mod lf_fit;
 pub mod ligand_field;
-pub mod pipeline;
 pub mod preprocess;
 pub mod solver;
 pub mod spectrum;

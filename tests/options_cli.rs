@@ -126,8 +126,8 @@ fn analyze_with_an_unknown_ion_exits_non_zero_and_says_why() {
     let json = ddlens(&["analyze", file, "--ion", "Xx", "--bands", "2", "--json"]);
     assert_eq!(json.status.code(), Some(1));
     let doc: serde_json::Value = serde_json::from_slice(&json.stdout).unwrap();
-    assert!(doc["fit_error"].as_str().unwrap().contains("Xx"));
-    assert!(doc["fit"].is_null());
+    assert!(doc["results"]["fit_error"].as_str().unwrap().contains("Xx"));
+    assert!(doc["results"]["fit"].is_null());
 }
 
 #[test]

@@ -2,9 +2,10 @@
 //! from a property of the method (named next to it), not from running the code.
 
 use ddlens::preprocess::{
-    baseline, crop, point_weights, resample_even, whittaker_smooth, BaselineMethod,
+    baseline, crop, point_weights, resample_even, whittaker_smooth, BaselineMethod, MAX_LAMBDA,
+    MAX_POLYNOMIAL_ORDER,
 };
-use ddlens::spectrum::{Quantity, Spectrum, XUnit};
+use ddlens::spectrum::{Quantity, Spectrum, XUnit, MAX_POINTS};
 use nalgebra::{DMatrix, DVector};
 
 fn gaussian(x: f64, centre: f64, fwhm: f64, height: f64) -> f64 {
@@ -230,4 +231,62 @@ fn bad_inputs_are_errors() {
     let mut nan = y.clone();
     nan[3] = f64::NAN;
     assert!(baseline(&x, &nan, &BaselineMethod::Arpls { lambda: 1e5 }).is_err());
+}
+
+#[test]
+fn a_polynomial_baseline_of_order_u32_max_is_refused_with_the_limit_not_wrapped() {
+    // 4294967295 wrapped to 0 on wasm32 (order + 1 in 32 bits); usize::MAX overflows everywhere.
+    let x = grid(50);
+    let y = vec![0.1; 50];
+    for order in [u32::MAX as usize, usize::MAX, MAX_POLYNOMIAL_ORDER + 1] {
+        let err = baseline(
+            &x,
+            &y,
+            &BaselineMethod::Polynomial {
+                order,
+                regions: vec![],
+            },
+        )
+        .unwrap_err();
+        let message = err.to_string();
+        assert!(
+            message.contains(&MAX_POLYNOMIAL_ORDER.to_string()),
+            "{message}"
+        );
+    }
+}
+
+#[test]
+fn whittaker_lambdas_beyond_the_bound_are_refused_with_a_sentence() {
+    let x = grid(200);
+    let y: Vec<f64> = x
+        .iter()
+        .map(|&v| gaussian(v, 20_000.0, 2000.0, 1.0))
+        .collect();
+    for method in [
+        BaselineMethod::Asls {
+            lambda: 1e300,
+            p: 0.01,
+        },
+        BaselineMethod::Arpls {
+            lambda: f64::INFINITY,
+        },
+        BaselineMethod::Arpls {
+            lambda: MAX_LAMBDA * 10.0,
+        },
+    ] {
+        let err = baseline(&x, &y, &method).unwrap_err();
+        assert!(err.to_string().contains("λ must be"), "{method:?}: {err}");
+    }
+    assert!(baseline(&x, &y, &BaselineMethod::Arpls { lambda: MAX_LAMBDA }).is_ok());
+}
+
+#[test]
+fn resampling_to_usize_max_points_is_capped_with_a_warning_not_a_panic() {
+    let x = grid(20);
+    let y = vec![0.5; 20];
+    let r = resample_even(&spectrum(x, y), usize::MAX);
+    assert_eq!(r.wavenumber.len(), MAX_POINTS);
+    assert!(r.values.iter().all(|&v| (v - 0.5).abs() < 1e-12));
+    assert!(r.warnings.iter().any(|w| w.message.contains("resampling")));
 }

@@ -149,6 +149,10 @@ fn nnls(a: &DMatrix<f64>, b: &DVector<f64>) -> Vec<f64> {
     let mut passive = vec![false; n];
     let ata = a.transpose() * a;
     let atb = a.transpose() * b;
+    if ata.iter().chain(atb.iter()).any(|v| !v.is_finite()) {
+        // Overflowing data (e.g. wavenumbers spanning 1e-300…1e300): no heights, no SVD.
+        return vec![0.0; n];
+    }
     let tol = 1e-12 * ata.diagonal().amax().max(f64::MIN_POSITIVE);
     for _ in 0..3 * n {
         let w = &atb - &ata * &x;
@@ -165,9 +169,15 @@ fn nnls(a: &DMatrix<f64>, b: &DVector<f64>) -> Vec<f64> {
         passive[j] = true;
         for _ in 0..3 * n {
             let idx: Vec<usize> = (0..n).filter(|&j| passive[j]).collect();
+            if idx.is_empty() {
+                // Every passive height was driven to zero: nothing left to solve (an SVD of a
+                // 0×0 matrix panics in nalgebra).
+                break;
+            }
             let sub = DMatrix::from_fn(idx.len(), idx.len(), |r, c| ata[(idx[r], idx[c])]);
             let rhs = DVector::from_iterator(idx.len(), idx.iter().map(|&r| atb[r]));
-            let Some(z) = sub.svd(true, true).solve(&rhs, 1e-14).ok() else {
+            let svd = sub.try_svd(true, true, f64::EPSILON, 10_000);
+            let Some(z) = svd.and_then(|d| d.solve(&rhs, 1e-14).ok()) else {
                 return x.iter().copied().collect();
             };
             if z.iter().all(|&v| v > 0.0) {
@@ -192,4 +202,24 @@ fn nnls(a: &DMatrix<f64>, b: &DVector<f64>) -> Vec<f64> {
         }
     }
     x.iter().copied().collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn wavenumbers_spanning_1e_minus_300_to_1e300_give_bands_or_nothing_without_a_panic() {
+        // Issue 20: NNLS reached an SVD of a 0×0 matrix here (the process aborted).
+        let x: Vec<f64> = (0..40)
+            .map(|i| 10f64.powf(-300.0 + 600.0 * f64::from(i) / 39.0))
+            .collect();
+        let y: Vec<f64> = (0..40).map(|i| (f64::from(i) * 0.7).sin().abs()).collect();
+        for n in [None, Some(1), Some(3)] {
+            let bands = guess(&x, &y, n);
+            assert!(bands
+                .iter()
+                .all(|b| b.centre.is_finite() && b.fwhm.is_finite() && b.height.is_finite()));
+        }
+    }
 }

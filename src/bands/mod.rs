@@ -769,21 +769,31 @@ pub fn band_class(epsilon_max: f64) -> &'static str {
     }
 }
 
+/// The band model of a band fit: its fitted values as starting values, its
+/// baseline, no locks or ties (what the page puts in the Bands panel after an
+/// automatic deconvolution, for the user to edit).
+pub fn model_of(fit: &BandFit) -> BandModel {
+    BandModel {
+        bands: fit
+            .bands
+            .iter()
+            .map(|b| BandSpec {
+                shape: b.shape,
+                centre: b.centre.value,
+                fwhm: b.fwhm.value,
+                height: b.height.value,
+                extra: b.extra.map(|e| e.value),
+                fixed: Vec::new(),
+            })
+            .collect(),
+        baseline: fit.baseline.model,
+        ties: Vec::new(),
+    }
+}
+
 /// The fitted model at `x`: (total, one curve per band, baseline).
 pub fn evaluate(x: &[f64], fit: &BandFit) -> (Vec<f64>, Vec<Vec<f64>>, Vec<f64>) {
-    let bands: Vec<BandSpec> = fit
-        .bands
-        .iter()
-        .map(|b| BandSpec {
-            shape: b.shape,
-            centre: b.centre.value,
-            fwhm: b.fwhm.value,
-            height: b.height.value,
-            extra: b.extra.map(|e| e.value),
-            fixed: Vec::new(),
-        })
-        .collect();
-    evaluate_bands(x, &bands, Some(&fit.baseline))
+    evaluate_bands(x, &model_of(fit).bands, Some(&fit.baseline))
 }
 
 /// Bands (at their given values) plus a fitted baseline (none: zero) at `x`:

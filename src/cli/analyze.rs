@@ -1,18 +1,21 @@
-//! `ddlens analyze FILE --ion Cr3+ --geometry octahedral [--bands N|auto] …`:
-//! the whole pipeline (the same function the browser calls).
+//! `ddlens analyze FILE --ion Cr3+ --geometry octahedral [--bands N|auto] …`
+//! or `ddlens analyze --project P.json`: the whole analysis of a document
+//! (`analysis::analyze`, the same function the browser calls).
 
 use super::flags::{self, Flag};
 use super::{json_text, outln, CliError};
-use ddlens::pipeline;
+use ddlens::analysis::{self, Document, Project, Source, SCHEMA};
 
 const HEADER: &str = "\
 ddlens analyze FILE [OPTIONS]
 
-Imports FILE, resolves its bands, assigns them and fits 10Dq, B (and C).
+Imports FILE, cleans it (--crop, --smooth, --subtract-baseline, in that order),
+resolves its bands, assigns them and fits 10Dq, B (and C). With --project P.json
+instead of FILE, recomputes every sample of a saved project with its own settings.
 The exit code is 1 when the ligand-field fit fails (the bands are still reported).
 ";
 
-pub(super) const FLAGS: [&Flag; 17] = [
+pub(super) const FLAGS: [&Flag; 22] = [
     &flags::ION,
     &flags::CONFIG,
     &flags::GEOMETRY,
@@ -28,6 +31,11 @@ pub(super) const FLAGS: [&Flag; 17] = [
     &flags::BAND_FIX,
     &flags::B0_SOURCE,
     &flags::LIGAND,
+    &flags::CROP,
+    &flags::SMOOTH,
+    &flags::SUBTRACT_BASELINE,
+    &flags::SAVE_PROJECT,
+    &flags::PROJECT,
     &flags::JSON,
     &flags::HELP,
 ];
@@ -37,21 +45,108 @@ pub fn run(words: &[String]) -> Result<String, CliError> {
     if p.help {
         return Ok(flags::help(HEADER, &FLAGS));
     }
+    if let Some(path) = &p.project {
+        return recompute(&p, path);
+    }
     let file = super::one_file(&p, "analyze")?;
-    let mut opts = super::band_fit_options(&p);
-    opts.ligand_field = Some(super::fit_request(&p)?);
-    opts.spectrum = p.spectrum.unwrap_or(0);
-    opts.import.x_unit = p.x_unit;
+    let source = Source {
+        spectrum: p.spectrum.unwrap_or(0),
+        import: ddlens::spectrum::ImportOptions {
+            x_unit: p.x_unit,
+            ..Default::default()
+        },
+        ..Source::default()
+    };
     let bytes = super::read_input(&file)?;
-    let analysis = pipeline::analyze_file(&bytes, &file, &opts)
-        .map_err(|e| CliError::Failed(format!("{}: {e}", super::args::shown(&file))))?;
+    let fail = |e: analysis::AnalysisError| {
+        CliError::Failed(format!("{}: {e}", super::args::shown(&file)))
+    };
+    let mut doc =
+        Document::import(&bytes, &file, source, super::band_fit_options(&p)).map_err(fail)?;
+    doc.steps = super::cleaning_steps(&p);
+    doc.ligand_field = Some(super::fit_request(&p)?.into());
+    let mut doc = analysis::analyze(&doc, &mut |_| true).map_err(fail)?;
+    if let Some(out) = &p.save_project {
+        save(&doc, out)?;
+    }
     if p.json {
-        let text = json_text(&analysis)?;
-        return match &analysis.fit_error {
-            Some(e) => Err(CliError::FitFailed(text, e.clone())),
+        doc.sample.data = None;
+        let text = json_text(&doc)?;
+        return match doc.results.as_ref().and_then(|r| r.fit_error.clone()) {
+            Some(e) => Err(CliError::FitFailed(text, e)),
             None => Ok(text),
         };
     }
+    report(&doc)
+}
+
+/// Writes `doc` (with its data) as a one-sample project.
+fn save(doc: &Document, path: &str) -> Result<(), CliError> {
+    let project = Project {
+        ddlens_project: SCHEMA,
+        program: format!("ddlens {}", ddlens::VERSION),
+        saved: None,
+        samples: vec![doc.clone()],
+        active: Some(0),
+        page: analysis::PageState::default(),
+    };
+    std::fs::write(path, project.to_json() + "\n")
+        .map_err(|e| CliError::Failed(format!("cannot write '{}': {e}", super::args::shown(path))))
+}
+
+/// `--project P.json`: every sample recomputed; the reports one after the
+/// other, or `--json`: the documents as a list.
+fn recompute(p: &flags::Parsed, path: &str) -> Result<String, CliError> {
+    if !p.positionals.is_empty() {
+        return Err(CliError::Usage(
+            "give either a spectrum FILE or --project P.json, not both".into(),
+        ));
+    }
+    let name = super::args::shown(path);
+    let bytes = super::read_input(path)?;
+    let text = String::from_utf8_lossy(&bytes);
+    let (project, notices) =
+        Project::from_json(&text).map_err(|e| CliError::Failed(format!("{name}: {e}")))?;
+    let mut docs = Vec::new();
+    for (i, d) in project.samples.iter().enumerate() {
+        let mut done = analysis::analyze(d, &mut |_| true).map_err(|e| {
+            CliError::Failed(format!("{name}: sample {} ({}): {e}", i + 1, d.sample.name))
+        })?;
+        if i == 0 {
+            done.notices.splice(0..0, notices.iter().cloned());
+        }
+        docs.push(done);
+    }
+    let failed = docs
+        .iter()
+        .find_map(|d| d.results.as_ref()?.fit_error.clone())
+        .filter(|_| docs.iter().any(|d| d.ligand_field.is_some()));
+    let text = if p.json {
+        for d in &mut docs {
+            d.sample.data = None;
+        }
+        json_text(&docs)?
+    } else {
+        let mut out = String::new();
+        for d in &docs {
+            out.push_str(&report(d).unwrap_or_else(|e| match e {
+                CliError::FitFailed(text, _) => text,
+                other => other.to_string(),
+            }));
+        }
+        out
+    };
+    match failed {
+        Some(e) => Err(CliError::FitFailed(text, e)),
+        None => Ok(text),
+    }
+}
+
+/// The text report of an analysed document.
+fn report(doc: &Document) -> Result<String, CliError> {
+    let Some(analysis) = &doc.results else {
+        return Ok(String::new());
+    };
     let mut out = String::new();
     let i = &analysis.import;
     outln!(
@@ -73,7 +168,12 @@ pub fn run(words: &[String]) -> Result<String, CliError> {
             b.height
         );
     }
-    for w in analysis.warnings.iter().chain(&analysis.bands.fit.warnings) {
+    for w in doc
+        .notices
+        .iter()
+        .chain(&analysis.warnings)
+        .chain(&analysis.bands.fit.warnings)
+    {
         outln!(out, "warning: {w}");
     }
     match (&analysis.fit, &analysis.fit_error) {

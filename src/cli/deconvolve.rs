@@ -3,7 +3,7 @@
 
 use super::flags::{self, Flag};
 use super::{json_text, outln, CliError};
-use ddlens::pipeline::{self, AnalysisError};
+use ddlens::analysis::{self, AnalysisError, Source};
 use ddlens::spectrum::Quantity;
 
 const HEADER: &str = "\
@@ -14,13 +14,16 @@ read as `ddlens import` reads it; the first spectrum of the file). Points are we
 by their share of the wavenumber axis; saturated regions are left out.
 ";
 
-pub(super) const FLAGS: [&Flag; 8] = [
+pub(super) const FLAGS: [&Flag; 11] = [
     &flags::BANDS,
     &flags::SHAPE,
     &flags::BASELINE,
     &flags::RANGE,
     &flags::EPSILON,
     &flags::MAX_ITERATIONS_FLAG,
+    &flags::CROP,
+    &flags::SMOOTH,
+    &flags::SUBTRACT_BASELINE,
     &flags::JSON,
     &flags::HELP,
 ];
@@ -35,13 +38,20 @@ pub fn run(words: &[String]) -> Result<String, CliError> {
     if let Some(n) = p.max_iterations {
         opts.max_iterations = n;
     }
+    let mut source = Source::default();
     if p.epsilon {
-        opts.import.y_quantity = Some(Quantity::MolarAbsorptivity);
+        source.import.y_quantity = Some(Quantity::MolarAbsorptivity);
     }
     let bytes = super::read_input(&file)?;
     let fail = |e: AnalysisError| CliError::Failed(format!("{}: {e}", super::args::shown(&file)));
-    let spectrum = pipeline::pick_spectrum(&bytes, &file, &opts).map_err(fail)?;
-    let result = pipeline::deconvolve(&spectrum, &opts, &mut |_| true).map_err(fail)?;
+    let raw = analysis::pick_spectrum(&bytes, &file, &source).map_err(fail)?;
+    let (spectrum, cleaning) = ddlens::preprocess::apply_steps(&raw, &super::cleaning_steps(&p))
+        .map_err(|e| fail(AnalysisError::Clean(e)))?;
+    let mut result = analysis::deconvolve(&spectrum, &opts, &mut |_| true).map_err(fail)?;
+    result
+        .fit
+        .warnings
+        .splice(0..0, cleaning.into_iter().map(|w| w.message));
     if p.json {
         return json_text(&result);
     }

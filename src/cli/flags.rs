@@ -17,10 +17,11 @@
 //!    read the field in that command's `run`.
 
 use super::args::{parse_number, shown, CliError};
+use ddlens::analysis::BandCount;
 use ddlens::bands::{BaselineModel, Shape};
 use ddlens::lf_fit::ObservedBand;
 use ddlens::ligand_field::{parse_configuration, Geometry};
-use ddlens::pipeline::BandCount;
+use ddlens::preprocess::BaselineMethod;
 use ddlens::spectrum::{Quantity, XUnit};
 use std::fmt::Write as _;
 
@@ -148,6 +149,11 @@ pub struct Parsed {
     pub epsilon: bool,
     pub max_iterations: Option<usize>,
     pub spectrum: Option<usize>,
+    pub crop: Option<[f64; 2]>,
+    pub smooth: Option<[usize; 2]>,
+    pub subtract_baseline: Option<BaselineMethod>,
+    pub save_project: Option<String>,
+    pub project: Option<String>,
 }
 
 /// The value of an option that takes one (stage one guarantees it is there).
@@ -214,7 +220,7 @@ pub fn parse_range(text: &str) -> Result<[f64; 2], CliError> {
 }
 
 /// The most bands `--bands N` accepts.
-pub const MAX_BANDS: usize = 30;
+pub const MAX_BANDS: usize = ddlens::analysis::defaults::MAX_BANDS;
 /// The most curve points `diagram --points` accepts.
 pub const MAX_DIAGRAM_POINTS: usize = 100_000;
 /// The most solver iterations `--max-iterations` accepts.
@@ -732,6 +738,188 @@ pub const SPECTRUM: Flag = Flag::takes(
     "the K-th spectrum of the file (default 1)",
     |p, v| {
         p.spectrum = Some(whole("--spectrum", v, 1, MAX_SPECTRUM)? - 1);
+        Ok(())
+    },
+);
+
+pub const CROP: Flag = Flag::takes(
+    "--crop",
+    "LO-HI",
+    "clean: keep only LO–HI cm⁻¹ (before smoothing and baseline)",
+    |p, v| {
+        let text = given(v);
+        let bad = || {
+            CliError::Usage(format!(
+                "--crop: '{}' should be LO-HI in cm⁻¹, e.g. 12000-30000",
+                shown(text)
+            ))
+        };
+        let (a, b) = text.split_once('-').ok_or_else(bad)?;
+        let (lo, hi) = (parse_number("--crop", a)?, parse_number("--crop", b)?);
+        if lo >= hi {
+            return Err(bad());
+        }
+        p.crop = Some([lo, hi]);
+        Ok(())
+    },
+);
+
+pub const SMOOTH: Flag = Flag::takes(
+    "--smooth",
+    "savgol:W:O",
+    "clean: Savitzky–Golay smoothing, window W points (odd), order O",
+    |p, v| {
+        let text = given(v);
+        let bad = || {
+            CliError::Usage(format!(
+                "--smooth: '{}' should be savgol:WINDOW:ORDER, e.g. savgol:11:2",
+                shown(text)
+            ))
+        };
+        let parts: Vec<&str> = text.split(':').collect();
+        let ["savgol", w, o] = parts[..] else {
+            return Err(bad());
+        };
+        let window = whole("--smooth", Some(w), 3, MAX_SAVGOL_WINDOW)?;
+        let order = whole("--smooth", Some(o), 0, window - 1)?;
+        if window % 2 == 0 {
+            return Err(CliError::Usage(format!(
+                "--smooth: the window {window} should be an odd number of points"
+            )));
+        }
+        p.smooth = Some([window, order]);
+        Ok(())
+    },
+);
+
+pub const SUBTRACT_BASELINE: Flag = Flag::takes(
+    "--subtract-baseline",
+    "METHOD",
+    "clean: subtract a baseline: polynomial:ORDER[:LO-HI,LO-HI…],",
+    |p, v| {
+        p.subtract_baseline = Some(parse_baseline_method(given(v))?);
+        Ok(())
+    },
+)
+.more("rubber_band, asls[:LAMBDA:P], arpls[:LAMBDA], scattering[:N] (as the page names them)");
+
+/// A baseline method spelled as the page's cleaning panel names it; omitted
+/// parameters take the defaults of `analysis::defaults`.
+pub fn parse_baseline_method(text: &str) -> Result<BaselineMethod, CliError> {
+    let bad = |why: &str| {
+        CliError::Usage(format!(
+            "--subtract-baseline: '{}' {why}; see `--help`",
+            shown(text)
+        ))
+    };
+    let mut parts = text.split(':');
+    let kind = parts.next().unwrap_or_default();
+    let args: Vec<&str> = parts.collect();
+    let default = ddlens::analysis::defaults::Defaults::get()
+        .cleaning
+        .baselines
+        .into_iter()
+        .find(|m| method_name(m) == kind)
+        .ok_or_else(|| bad("is not polynomial, rubber_band, asls, arpls or scattering"))?;
+    let n = |i: usize| parse_number("--subtract-baseline", args[i]);
+    let method = match (default, args.len()) {
+        (m, 0) => m,
+        (BaselineMethod::Polynomial { .. }, 1 | 2) => {
+            let order = whole("--subtract-baseline", Some(args[0]), 0, 8)?;
+            let mut regions = Vec::new();
+            for r in args.get(1).iter().flat_map(|t| t.split(',')) {
+                let (a, b) = r
+                    .split_once('-')
+                    .ok_or_else(|| bad("has a region that is not LO-HI"))?;
+                let (lo, hi) = (
+                    parse_number("--subtract-baseline", a)?,
+                    parse_number("--subtract-baseline", b)?,
+                );
+                regions.push([lo.min(hi), lo.max(hi)]);
+            }
+            BaselineMethod::Polynomial { order, regions }
+        }
+        (BaselineMethod::Asls { .. }, 2) => BaselineMethod::Asls {
+            lambda: n(0)?,
+            p: n(1)?,
+        },
+        (BaselineMethod::Arpls { .. }, 1) => BaselineMethod::Arpls { lambda: n(0)? },
+        (BaselineMethod::Scattering { .. }, 1) => BaselineMethod::Scattering {
+            exponent: Some(n(0)?),
+        },
+        _ => return Err(bad("has the wrong number of parameters")),
+    };
+    Ok(method)
+}
+
+/// The page's name of a baseline method.
+fn method_name(m: &BaselineMethod) -> &'static str {
+    match m {
+        BaselineMethod::Polynomial { .. } => "polynomial",
+        BaselineMethod::RubberBand => "rubber_band",
+        BaselineMethod::Asls { .. } => "asls",
+        BaselineMethod::Arpls { .. } => "arpls",
+        BaselineMethod::Scattering { .. } => "scattering",
+    }
+}
+
+#[cfg(test)]
+mod cleaning_tests {
+    use super::*;
+    #[test]
+    fn cleaning_flags_read_the_page_spellings() {
+        let mut p = Parsed::default();
+        (CROP.update)(&mut p, Some("12000-30000")).unwrap();
+        assert_eq!(p.crop, Some([12000.0, 30000.0]));
+        assert!((CROP.update)(&mut p, Some("30000-12000")).is_err());
+        (SMOOTH.update)(&mut p, Some("savgol:11:2")).unwrap();
+        assert_eq!(p.smooth, Some([11, 2]));
+        assert!((SMOOTH.update)(&mut p, Some("savgol:10:2")).is_err());
+        assert!((SMOOTH.update)(&mut p, Some("boxcar:11")).is_err());
+        assert_eq!(
+            parse_baseline_method("asls:1e6:0.02").unwrap(),
+            BaselineMethod::Asls {
+                lambda: 1e6,
+                p: 0.02
+            }
+        );
+        assert_eq!(
+            parse_baseline_method("polynomial:2:9000-10500,28000-30000").unwrap(),
+            BaselineMethod::Polynomial {
+                order: 2,
+                regions: vec![[9000.0, 10500.0], [28000.0, 30000.0]]
+            }
+        );
+        assert_eq!(
+            parse_baseline_method("rubber_band").unwrap(),
+            BaselineMethod::RubberBand
+        );
+        // Without parameters a method takes the page's defaults.
+        assert!(matches!(
+            parse_baseline_method("arpls").unwrap(),
+            BaselineMethod::Arpls { .. }
+        ));
+        assert!(parse_baseline_method("asls:1e6").is_err());
+        assert!(parse_baseline_method("spline").is_err());
+    }
+}
+
+pub const SAVE_PROJECT: Flag = Flag::takes(
+    "--save-project",
+    "OUT.json",
+    "also write the analysis as a project file (with its data) the page opens",
+    |p, v| {
+        p.save_project = Some(given(v).to_string());
+        Ok(())
+    },
+);
+
+pub const PROJECT: Flag = Flag::takes(
+    "--project",
+    "P.json",
+    "recompute every sample of a saved project (instead of FILE)",
+    |p, v| {
+        p.project = Some(given(v).to_string());
         Ok(())
     },
 );

@@ -1,7 +1,8 @@
 //! `ddlens import FILE`: reads a spectrum file and reports what was found.
 //!
 //! Options: `--x-unit nm|um|cm-1|eV`, `--y-quantity absorbance|transmittance|%T|epsilon|arbitrary`,
-//! `--air-to-vacuum`, `--concentration M`, `--path-length CM`, `--export-csv FILE`.
+//! `--air-to-vacuum`, `--concentration M`, `--path-length CM`, `--export-csv FILE`,
+//! and the cleaning steps `--crop LO-HI`, `--smooth savgol:W:O`, `--subtract-baseline METHOD`.
 //! Hidden options for the reference checks (tests/reference/):
 //! - `--raw`: print x and y in file units and file order, no conversion (JSON only);
 //! - `--savgol-coeffs W,O,D` (no FILE): the Savitzky–Golay coefficients for window W,
@@ -20,13 +21,16 @@ ddlens import FILE — read a spectrum file (CSV/TXT, JCAMP-DX) and report what 
 FILE must be a regular file of at most 256 MiB (no directory, device or pipe).
 ";
 
-pub(super) const FLAGS: [&Flag; 10] = [
+pub(super) const FLAGS: [&Flag; 13] = [
     &flags::X_UNIT,
     &flags::Y_QUANTITY,
     &flags::AIR_TO_VACUUM,
     &flags::CONCENTRATION,
     &flags::PATH_LENGTH,
     &flags::EXPORT_CSV,
+    &flags::CROP,
+    &flags::SMOOTH,
+    &flags::SUBTRACT_BASELINE,
     &flags::RAW,
     &flags::SAVGOL_COEFFS,
     &flags::JSON,
@@ -58,8 +62,17 @@ pub fn run(words: &[String]) -> Result<String, CliError> {
             spectrum::read_raw(&bytes, &file).map_err(|e| CliError::Failed(e.to_string()))?;
         return json_text(&report);
     }
-    let report =
+    let mut report =
         spectrum::import(&bytes, &file, &opts).map_err(|e| CliError::Failed(e.to_string()))?;
+    let steps = super::cleaning_steps(&p);
+    if !steps.is_empty() {
+        for s in &mut report.spectra {
+            let (mut clean, notes) = preprocess::apply_steps(s, &steps)
+                .map_err(|e| CliError::Failed(format!("{}: the cleaning failed: {e}", s.name)))?;
+            clean.warnings.extend(notes);
+            *s = clean;
+        }
+    }
     if let Some(path) = &p.export_csv {
         std::fs::write(path, to_csv(&report.spectra)).map_err(|e| {
             CliError::Failed(format!("cannot write '{}': {e}", super::args::shown(path)))

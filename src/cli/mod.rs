@@ -31,7 +31,7 @@ COMMANDS:
     fit         10Dq, B, C from observed band maxima, with the assignment search
     import      read a spectrum file (CSV/TXT, JCAMP-DX) and report what was found
     deconvolve  resolve overlapping bands of a spectrum
-    analyze     the whole pipeline: import, bands, assignment and fit
+    analyze     the whole analysis: import, cleaning, bands, assignment and fit
     help CMD    the options of CMD (as `ddlens CMD --help`)
 
 OPTIONS:
@@ -247,19 +247,38 @@ pub(crate) fn fit_request(p: &flags::Parsed) -> Result<ddlens::lf_fit::FitReques
 }
 
 /// The band-fit choices `deconvolve` and `analyze` share, from the typed flags.
-pub(crate) fn band_fit_options(p: &flags::Parsed) -> ddlens::pipeline::AnalysisOptions {
-    let mut opts = ddlens::pipeline::AnalysisOptions {
+pub(crate) fn band_fit_options(p: &flags::Parsed) -> ddlens::analysis::BandSetup {
+    let mut opts = ddlens::analysis::BandSetup {
         range: p.range,
         baseline: p.baseline,
         ..Default::default()
     };
     if let Some(count) = p.band_count {
-        opts.bands = count;
+        opts.count = count;
     }
     if let Some(shape) = p.shape {
         opts.shape = shape;
     }
     opts
+}
+
+/// The cleaning steps of the typed flags, in the page's order: crop,
+/// smoothing, baseline subtraction.
+pub(crate) fn cleaning_steps(p: &flags::Parsed) -> Vec<ddlens::preprocess::Step> {
+    use ddlens::preprocess::Step;
+    let mut steps = Vec::new();
+    if let Some([low, high]) = p.crop {
+        steps.push(Step::Crop { low, high });
+    }
+    if let Some([window, order]) = p.smooth {
+        steps.push(Step::Smooth { window, order });
+    }
+    if let Some(method) = &p.subtract_baseline {
+        steps.push(Step::SubtractBaseline {
+            method: method.clone(),
+        });
+    }
+    steps
 }
 
 /// A serializable value as pretty JSON text.

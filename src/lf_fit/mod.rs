@@ -397,6 +397,13 @@ fn check(req: &FitRequest) -> Result<Problem, LfFitError> {
     })
 }
 
+/// Whether `name` ("4T1g(P)", "⁴T₁g(P)" or "4T1g") names a state of dⁿ in
+/// `geometry` that a band can be forced onto.
+pub fn names_state(n: u8, geometry: Geometry, name: &str) -> bool {
+    crate::ligand_field::model(n, geometry)
+        .is_ok_and(|m| search::names_state(m, DEFAULT_C_OVER_B, name))
+}
+
 /// Finds the assignment and fits Dq, B (and C) to the observed bands.
 ///
 /// The two lowest spin-allowed bands of octahedral d³, computed by the exact

@@ -75,6 +75,19 @@ fn forced_ok(level: &Level, forced: Option<&str>) -> bool {
     }
 }
 
+/// Whether `name` names a level of the model at some field strength of the
+/// scan (as a forced assignment may name it).
+pub(crate) fn names_state(m: &crate::ligand_field::Model, gamma: f64, name: &str) -> bool {
+    grid().iter().any(|&x| {
+        m.levels(&Params {
+            dq: x / 10.0,
+            b: 1.0,
+            c: gamma,
+        })
+        .is_ok_and(|ls| ls.iter().any(|l| forced_ok(l, Some(name))))
+    })
+}
+
 /// All order-preserving assignments, best-scanned first (at most `LIMIT`,
 /// plus all that satisfy forced assignments).
 #[expect(
@@ -88,18 +101,12 @@ pub(crate) fn assignments(p: &Problem) -> Result<Vec<Tuple>, LfFitError> {
     let k = p.bands.len();
     let weights: Vec<f64> = p.sigmas.iter().map(|s| 1.0 / (s * s)).collect();
     let forced: Vec<Option<String>> = p.bands.iter().map(|b| b.assign.clone()).collect();
-    if let Some(f) = forced.iter().flatten().next() {
-        let any = grid().iter().any(|&x| {
-            m.levels(&Params {
-                dq: x / 10.0,
-                b: 1.0,
-                c: p.gamma,
-            })
-            .is_ok_and(|ls| ls.iter().any(|l| forced_ok(l, Some(f.as_str()))))
-        });
-        if !any {
-            return Err(LfFitError::UnknownState(f.clone()));
-        }
+    if let Some(f) = forced
+        .iter()
+        .flatten()
+        .find(|f| !names_state(m, p.gamma, f))
+    {
+        return Err(LfFitError::UnknownState(f.clone()));
     }
     // For each Δ/B: the energy per unit B of every level above each starting level.
     let mut tables: Vec<(f64, Vec<Level>, Vec<Key>)> = Vec::new();

@@ -11,6 +11,10 @@
 use super::PreprocessError;
 use nalgebra::{DMatrix, DVector};
 
+/// The highest polynomial baseline order accepted (x is mapped to [−1, 1], so the
+/// Vandermonde matrix stays well conditioned well past it).
+pub const MAX_POLYNOMIAL_ORDER: usize = 20;
+
 pub(super) fn polynomial(
     x: &[f64],
     y: &[f64],
@@ -23,6 +27,11 @@ pub(super) fn polynomial(
                 .iter()
                 .any(|r| v >= r[0].min(r[1]) && v <= r[0].max(r[1]))
     };
+    if order > MAX_POLYNOMIAL_ORDER {
+        return Err(PreprocessError::BadParameter(format!(
+            "the polynomial baseline order may be at most {MAX_POLYNOMIAL_ORDER}, found {order}"
+        )));
+    }
     let chosen: Vec<usize> = (0..x.len()).filter(|&i| inside(x[i])).collect();
     if chosen.len() < order + 1 {
         return Err(PreprocessError::TooFewPoints {

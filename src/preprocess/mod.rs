@@ -6,17 +6,21 @@
 //! - [`point_weights`] gives each point its share of the axis (trapezoid rule),
 //!   so a grid even in wavelength does not over-weight the near infrared in a fit;
 //! - [`baseline`] estimates a baseline by one of [`BaselineMethod`];
-//! - [`savgol`]/[`savgol_coeffs`]: Savitzky–Golay smoothing and derivatives.
+//! - [`savgol`]/[`savgol_coeffs`]: Savitzky–Golay smoothing and derivatives;
+//! - [`Step`] and [`apply_steps`]: the cleaning steps of an analysis document.
 
 mod baselines;
 mod savgol;
+mod steps;
 mod whittaker;
 
-use crate::spectrum::Spectrum;
+use crate::spectrum::{Spectrum, Warning, MAX_POINTS};
 use serde::{Deserialize, Serialize};
 
-pub use savgol::{savgol, savgol_coeffs};
-pub use whittaker::{whittaker_smooth, REFERENCE_POINTS};
+pub use baselines::MAX_POLYNOMIAL_ORDER;
+pub use savgol::{savgol, savgol_coeffs, MAX_WINDOW};
+pub use steps::{apply_steps, Step};
+pub use whittaker::{whittaker_smooth, MAX_ITERATIONS, MAX_LAMBDA, REFERENCE_POINTS};
 
 /// Why a preprocessing step could not run.
 #[derive(Debug, Clone, PartialEq)]
@@ -138,12 +142,23 @@ pub fn crop(s: &Spectrum, lo: f64, hi: f64) -> Spectrum {
 }
 
 /// Linear interpolation of `s` onto `points` evenly spaced wavenumbers over its range.
-/// With fewer than two points (in `s` or asked for) the spectrum is returned unchanged.
+/// With fewer than two points (in `s` or asked for) the spectrum is returned unchanged;
+/// more than [`crate::spectrum::MAX_POINTS`] are reduced to that many, with a warning.
 pub fn resample_even(s: &Spectrum, points: usize) -> Spectrum {
     let n = s.wavenumber.len().min(s.values.len());
     if n < 2 || points < 2 {
         return s.clone();
     }
+    let mut warnings = s.warnings.clone();
+    let points = if points > MAX_POINTS {
+        warnings.push(Warning::new(
+            None,
+            format!("resampling asked for {points} points; {MAX_POINTS} were used, the most a spectrum holds"),
+        ));
+        MAX_POINTS
+    } else {
+        points
+    };
     let (lo, hi) = (s.wavenumber[0], s.wavenumber[n - 1]);
     let step = (hi - lo) / (points - 1) as f64;
     let mut grid = Vec::with_capacity(points);
@@ -170,6 +185,7 @@ pub fn resample_even(s: &Spectrum, points: usize) -> Spectrum {
     Spectrum {
         wavenumber: grid,
         values,
+        warnings,
         ..s.clone()
     }
 }

@@ -9,9 +9,16 @@
 //! conditioned. Edges use the polynomial fitted to the first/last full window
 //! (the same as SciPy's `savgol_filter(mode="interp")`). Derivatives are per
 //! point index: divide by spacing^deriv for physical units.
+//!
+//! The pseudo-inverse is computed once per call ([`Fit`]); the weights at each
+//! edge position are then a cheap product with it (window·order operations).
+//! The window is at most [`MAX_WINDOW`] points and never longer than the data.
 
 use super::PreprocessError;
 use nalgebra::DMatrix;
+
+/// The widest Savitzky–Golay window accepted, in points.
+pub const MAX_WINDOW: usize = 1001;
 
 /// Weights giving the `deriv`-th derivative at the window centre, in correlation
 /// order (`Σ c[j]·y[i + j − half]`); equal to SciPy `savgol_coeffs(…, use="dot")`.
@@ -21,7 +28,7 @@ pub fn savgol_coeffs(
     deriv: usize,
 ) -> Result<Vec<f64>, PreprocessError> {
     let half = check(window, order, deriv)?;
-    weights_at(window, order, deriv, half)
+    Ok(Fit::new(window, order, deriv)?.weights_at(half))
 }
 
 /// Smooths (`deriv` = 0) or differentiates `y` with a Savitzky–Golay filter.
@@ -55,7 +62,8 @@ pub fn savgol(
             found: y.len(),
         });
     }
-    let centre = weights_at(window, order, deriv, half)?;
+    let fit = Fit::new(window, order, deriv)?;
+    let centre = fit.weights_at(half);
     let dot = |w: &[f64], start: usize| -> f64 {
         w.iter()
             .zip(&y[start..start + window])
@@ -68,15 +76,18 @@ pub fn savgol(
     }
     let last_start = y.len() - window;
     for p in 0..half {
-        let w = weights_at(window, order, deriv, p)?;
-        out[p] = dot(&w, 0);
-        let w_end = weights_at(window, order, deriv, window - 1 - p)?;
-        out[y.len() - 1 - p] = dot(&w_end, last_start);
+        out[p] = dot(&fit.weights_at(p), 0);
+        out[y.len() - 1 - p] = dot(&fit.weights_at(window - 1 - p), last_start);
     }
     Ok(out)
 }
 
 fn check(window: usize, order: usize, deriv: usize) -> Result<usize, PreprocessError> {
+    if window > MAX_WINDOW {
+        return Err(PreprocessError::BadParameter(format!(
+            "the Savitzky–Golay window may span at most {MAX_WINDOW} points, found {window}"
+        )));
+    }
     if window == 0 || window % 2 == 0 {
         return Err(PreprocessError::BadParameter(format!(
             "the Savitzky–Golay window must be an odd number of points, found {window}"
@@ -95,31 +106,57 @@ fn check(window: usize, order: usize, deriv: usize) -> Result<usize, PreprocessE
     Ok(window / 2)
 }
 
-/// Weights for the derivative at window position `pos` (0 … window−1).
-fn weights_at(
+/// The least-squares polynomial fit of one window: its pseudo-inverse, computed once.
+struct Fit {
     window: usize,
     order: usize,
     deriv: usize,
-    pos: usize,
-) -> Result<Vec<f64>, PreprocessError> {
-    let half = window / 2;
-    let scale = if half == 0 { 1.0 } else { half as f64 };
-    let t = |j: usize| (j as f64 - half as f64) / scale;
-    let vandermonde = DMatrix::from_fn(window, order + 1, |j, k| t(j).powi(k as i32));
-    let pinv = vandermonde
-        .svd(true, true)
-        .pseudo_inverse(1e-13)
-        .map_err(|_| PreprocessError::Singular)?;
-    // d^deriv/dt^deriv of t^k at t0, then chain rule dt/dindex = 1/scale.
-    let t0 = t(pos);
-    let mut factor = vec![0.0; order + 1];
-    for (k, f) in factor.iter_mut().enumerate().skip(deriv) {
-        let falling: f64 = ((k - deriv + 1)..=k).map(|m| m as f64).product();
-        *f = falling * t0.powi((k - deriv) as i32) / scale.powi(deriv as i32);
+    /// (order + 1) × window pseudo-inverse of the scaled Vandermonde matrix.
+    pinv: DMatrix<f64>,
+}
+
+impl Fit {
+    fn new(window: usize, order: usize, deriv: usize) -> Result<Fit, PreprocessError> {
+        let vandermonde = DMatrix::from_fn(window, order + 1, |j, k| {
+            Fit::position(window, j).powi(k as i32)
+        });
+        let pinv = vandermonde
+            .svd(true, true)
+            .pseudo_inverse(1e-13)
+            .map_err(|_| PreprocessError::Singular)?;
+        Ok(Fit {
+            window,
+            order,
+            deriv,
+            pinv,
+        })
     }
-    Ok((0..window)
-        .map(|j| (0..=order).map(|k| factor[k] * pinv[(k, j)]).sum())
-        .collect())
+
+    /// Half the window, the scale that maps positions to [−1, 1].
+    fn scale(window: usize) -> f64 {
+        (window / 2).max(1) as f64
+    }
+
+    /// Window index `j` mapped to [−1, 1].
+    fn position(window: usize, j: usize) -> f64 {
+        (j as f64 - (window / 2) as f64) / Fit::scale(window)
+    }
+
+    /// Weights for the derivative at window position `pos` (0 … window−1).
+    fn weights_at(&self, pos: usize) -> Vec<f64> {
+        let (order, deriv) = (self.order, self.deriv);
+        let scale = Fit::scale(self.window);
+        // d^deriv/dt^deriv of t^k at t0, then chain rule dt/dindex = 1/scale.
+        let t0 = Fit::position(self.window, pos);
+        let mut factor = vec![0.0; order + 1];
+        for (k, f) in factor.iter_mut().enumerate().skip(deriv) {
+            let falling: f64 = ((k - deriv + 1)..=k).map(|m| m as f64).product();
+            *f = falling * t0.powi((k - deriv) as i32) / scale.powi(deriv as i32);
+        }
+        (0..self.window)
+            .map(|j| (0..=order).map(|k| factor[k] * self.pinv[(k, j)]).sum())
+            .collect()
+    }
 }
 
 #[cfg(test)]
@@ -161,5 +198,30 @@ mod tests {
         assert!(savgol(&y, 8, 3, 0).is_err());
         assert!(savgol(&y[..5], 9, 3, 0).is_err());
         assert!(savgol_coeffs(5, 2, 3).is_err());
+    }
+
+    #[test]
+    fn a_window_wider_than_the_cap_is_refused_before_any_work() {
+        // Shorter than the window, so that a missing cap fails fast with another error.
+        let err = savgol(&[0.0; 5], 8001, 2, 0).unwrap_err();
+        assert!(err.to_string().contains("1001"), "{err}");
+        assert!(savgol_coeffs(usize::MAX, 2, 0).is_err());
+        assert!(savgol(&vec![0.0; 1500], MAX_WINDOW, 2, 0).is_ok());
+    }
+
+    #[test]
+    fn edge_weights_equal_the_exact_least_squares_fit_at_each_position() {
+        // SciPy savgol_coeffs(5, 2, pos=0, use="dot") × 35 = (31, 9, −3, −5, 3): the quadratic
+        // least-squares fit of five points evaluated at the first (SciPy run by hand; NumPy's
+        // pinv of the Vandermonde matrix on t = −2…2 gives the same).
+        let fit = Fit::new(5, 2, 0).unwrap();
+        let w = fit.weights_at(0);
+        for (a, b) in w.iter().zip([31.0, 9.0, -3.0, -5.0, 3.0]) {
+            assert!((a - b / 35.0).abs() < 1e-12, "{w:?}");
+        }
+        let end = fit.weights_at(4);
+        for (a, b) in end.iter().zip([3.0, -5.0, -3.0, 9.0, 31.0]) {
+            assert!((a - b / 35.0).abs() < 1e-12, "{end:?}");
+        }
     }
 }

@@ -15,13 +15,17 @@ use super::PreprocessError;
 
 /// The point count that a user's λ refers to.
 pub const REFERENCE_POINTS: f64 = 1000.0;
-const MAX_ITERATIONS: usize = 50;
+/// The largest λ accepted (per [`REFERENCE_POINTS`] points); beyond it the baseline is a
+/// straight line to working precision and the banded factorisation loses every digit.
+pub const MAX_LAMBDA: f64 = 1e12;
+/// Reweighting rounds of AsLS and arPLS (each one banded solve).
+pub const MAX_ITERATIONS: usize = 50;
 const TOLERANCE: f64 = 1e-3;
 
 fn scaled_lambda(lambda: f64, n: usize) -> Result<f64, PreprocessError> {
-    if !(lambda.is_finite() && lambda > 0.0) {
+    if !(lambda > 0.0 && lambda <= MAX_LAMBDA) {
         return Err(PreprocessError::BadParameter(format!(
-            "λ must be a positive number, found {lambda}"
+            "λ must be a positive number up to {MAX_LAMBDA:e}, found {lambda}"
         )));
     }
     if n < 3 {

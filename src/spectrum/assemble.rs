@@ -8,6 +8,7 @@
 use super::saturation;
 use super::units::{air_to_vacuum_nm, Quantity, XUnit, YLabel, CIDDOR_VALID_NM};
 use super::{ImportError, ImportOptions, RawSpectrum, Spectrum, Warning};
+use super::{MAX_MAGNITUDE, WAVENUMBER_RANGE};
 
 #[expect(
     clippy::too_many_lines,
@@ -47,8 +48,7 @@ pub(super) fn assemble(raw: RawSpectrum, opts: &ImportOptions) -> Result<Spectru
     };
 
     let mut points: Vec<(f64, f64, usize)> = Vec::with_capacity(raw.x.len());
-    let (mut bad_x, mut first_bad_x) = (0usize, None);
-    let (mut opaque, mut first_opaque) = (0usize, None);
+    let (mut bad_x, mut bad_y, mut opaque) = (Vec::new(), Vec::new(), Vec::new());
     let mut outside_ciddor = false;
     let mut opaque_ranges = Vec::new();
     for (i, (&x, &y)) in raw.x.iter().zip(&raw.y).enumerate() {
@@ -60,39 +60,53 @@ pub(super) fn assemble(raw: RawSpectrum, opts: &ImportOptions) -> Result<Spectru
         } else {
             x_unit.to_wavenumber(x)
         };
-        let Some(wavenumber) = wavenumber.filter(|w| w.is_finite()) else {
-            bad_x += 1;
-            first_bad_x.get_or_insert(line);
+        let Some(wavenumber) = wavenumber.filter(|&w| wavenumber_in_range(w)) else {
+            bad_x.push(line);
             continue;
         };
         let value = match y_label {
-            YLabel::LogMolarAbsorptivity => Some(10f64.powf(y)).filter(|v| v.is_finite()),
+            YLabel::LogMolarAbsorptivity => Some(10f64.powf(y)),
             YLabel::Quantity(q @ (Quantity::Transmittance | Quantity::PercentTransmittance)) => {
                 q.to_absorbance(y)
             }
             YLabel::Quantity(_) => Some(y),
         };
-        if let Some(v) = value {
-            points.push((wavenumber, v, line));
-        } else {
-            opaque += 1;
-            first_opaque.get_or_insert(line);
-            opaque_ranges.push([wavenumber, wavenumber]);
+        match value {
+            Some(v) if bounded(v) => points.push((wavenumber, v, line)),
+            Some(_) => bad_y.push(line),
+            None => {
+                opaque.push(line);
+                opaque_ranges.push([wavenumber, wavenumber]);
+            }
         }
     }
-    if bad_x > 0 {
+    if !bad_x.is_empty() {
         warnings.push(Warning::new(
-            first_bad_x,
+            bad_x.first().copied(),
             format!(
-                "{bad_x} points with an x value that is zero or negative in {} were skipped",
-                x_unit.symbol()
+                "{} points whose x in {} is zero, negative or gives a wavenumber outside {:e}–{:e} cm⁻¹ were skipped ({})",
+                bad_x.len(),
+                x_unit.symbol(),
+                WAVENUMBER_RANGE[0],
+                WAVENUMBER_RANGE[1],
+                rows(&bad_x)
             ),
         ));
     }
-    if opaque > 0 {
+    if !bad_y.is_empty() {
         warnings.push(Warning::new(
-            first_opaque,
-            format!("{opaque} points with transmittance zero or below (no finite absorbance) were skipped and flagged as saturated"),
+            bad_y.first().copied(),
+            format!(
+                "{} points whose value is not finite or beyond ±{MAX_MAGNITUDE:e} after conversion were skipped ({})",
+                bad_y.len(),
+                rows(&bad_y)
+            ),
+        ));
+    }
+    if !opaque.is_empty() {
+        warnings.push(Warning::new(
+            opaque.first().copied(),
+            format!("{} points with transmittance zero or below (no finite absorbance) were skipped and flagged as saturated ({})", opaque.len(), rows(&opaque)),
         ));
     }
     if outside_ciddor {
@@ -103,7 +117,7 @@ pub(super) fn assemble(raw: RawSpectrum, opts: &ImportOptions) -> Result<Spectru
     }
 
     points.sort_by(|a, b| a.0.total_cmp(&b.0));
-    let (wavenumber, mut values) = average_duplicates(&points, &mut warnings);
+    let (mut wavenumber, mut values, mut lines) = average_duplicates(&points, &mut warnings);
     if wavenumber.len() < 2 {
         return Err(ImportError::NoData);
     }
@@ -137,10 +151,21 @@ pub(super) fn assemble(raw: RawSpectrum, opts: &ImportOptions) -> Result<Spectru
             }
             metadata.insert("concentration (mol/L)".into(), c.to_string());
             metadata.insert("path length (cm)".into(), l.to_string());
+            let cl = c * l;
+            if !(cl > 0.0 && cl.is_finite()) {
+                return Err(ImportError::BadOption(format!(
+                    "concentration × path length ({c} mol/L × {l} cm) is not a usable positive number"
+                )));
+            }
             if quantity == Quantity::Absorbance {
-                let cl = c * l;
                 for v in &mut values {
                     *v /= cl;
+                }
+                drop_unbounded(&mut wavenumber, &mut values, &mut lines, &mut warnings);
+                if wavenumber.len() < 2 {
+                    return Err(ImportError::BadOption(format!(
+                        "dividing by concentration × path length ({cl:e} mol L⁻¹ cm) leaves fewer than two finite points"
+                    )));
                 }
                 Quantity::MolarAbsorptivity
             } else {
@@ -254,37 +279,128 @@ fn y_label(
     }
 }
 
-/// Averages points with equal wavenumber (input sorted), with one warning.
+/// Is `w` a wavenumber the import keeps (finite, inside [`WAVENUMBER_RANGE`])?
+fn wavenumber_in_range(w: f64) -> bool {
+    (WAVENUMBER_RANGE[0]..=WAVENUMBER_RANGE[1]).contains(&w)
+}
+
+/// Is `v` an ordinate the import keeps (finite, |v| ≤ [`MAX_MAGNITUDE`])?
+fn bounded(v: f64) -> bool {
+    v.abs() <= MAX_MAGNITUDE
+}
+
+/// "line 4" or "lines 4, 9, 12 and 3 more": the file rows a warning is about.
+fn rows(lines: &[usize]) -> String {
+    const SHOWN: usize = 5;
+    let listed: Vec<String> = lines.iter().take(SHOWN).map(ToString::to_string).collect();
+    let more = lines.len().saturating_sub(SHOWN);
+    let head = if lines.len() == 1 { "line" } else { "lines" };
+    match more {
+        0 => format!("{head} {}", listed.join(", ")),
+        n => format!("{head} {} and {n} more", listed.join(", ")),
+    }
+}
+
+/// Drops points whose value left the bounds (after a division), with a warning naming the rows.
+fn drop_unbounded(
+    wavenumber: &mut Vec<f64>,
+    values: &mut Vec<f64>,
+    lines: &mut Vec<usize>,
+    warnings: &mut Vec<Warning>,
+) {
+    let bad: Vec<usize> = (0..values.len()).filter(|&i| !bounded(values[i])).collect();
+    if bad.is_empty() {
+        return;
+    }
+    let bad_lines: Vec<usize> = bad.iter().map(|&i| lines[i]).collect();
+    let keep: Vec<bool> = values.iter().map(|&v| bounded(v)).collect();
+    let mut k = keep.iter();
+    wavenumber.retain(|_| *k.next().unwrap_or(&false));
+    let mut k = keep.iter();
+    values.retain(|_| *k.next().unwrap_or(&false));
+    let mut k = keep.iter();
+    lines.retain(|_| *k.next().unwrap_or(&false));
+    warnings.push(Warning::new(
+        bad_lines.first().copied(),
+        format!(
+            "{} points exceed ±{MAX_MAGNITUDE:e} after dividing by concentration × path length and were skipped ({})",
+            bad.len(),
+            rows(&bad_lines)
+        ),
+    ));
+}
+
+/// Averages points with equal wavenumber (input sorted) by a running mean, which
+/// cannot overflow for finite inputs (1.7e308 and 1.7e308 average to 1.7e308);
+/// one warning. Returns the axis, the values and each point's first file line.
 fn average_duplicates(
     points: &[(f64, f64, usize)],
     warnings: &mut Vec<Warning>,
-) -> (Vec<f64>, Vec<f64>) {
+) -> (Vec<f64>, Vec<f64>, Vec<usize>) {
     let mut xs = Vec::with_capacity(points.len());
     let mut ys = Vec::with_capacity(points.len());
-    let (mut merged, mut first_line) = (0usize, None);
+    let mut lines = Vec::with_capacity(points.len());
+    let mut repeated = Vec::new();
     let mut i = 0;
     while i < points.len() {
-        let (x, _, line) = points[i];
+        let (x, _, _) = points[i];
         let mut j = i;
-        let mut sum = 0.0;
+        let mut mean = 0.0;
         while j < points.len() && points[j].0.total_cmp(&x).is_eq() {
-            sum += points[j].1;
+            mean += (points[j].1 - mean) / (j - i + 1) as f64;
             j += 1;
         }
-        if j - i > 1 {
-            merged += j - i - 1;
-            let min_line = points[i..j].iter().map(|p| p.2).max().unwrap_or(line);
-            first_line = Some(first_line.map_or(min_line, |l: usize| l.min(min_line)));
+        let group = &points[i..j];
+        let first = group.iter().map(|p| p.2).min().unwrap_or(0);
+        if group.len() > 1 {
+            let mut group_lines: Vec<usize> = group.iter().map(|p| p.2).collect();
+            group_lines.sort_unstable();
+            repeated.extend_from_slice(&group_lines[1..]);
         }
         xs.push(x);
-        ys.push(sum / (j - i) as f64);
+        ys.push(mean);
+        lines.push(first);
         i = j;
     }
-    if merged > 0 {
+    if !repeated.is_empty() {
+        repeated.sort_unstable();
         warnings.push(Warning::new(
-            first_line,
-            format!("{merged} repeated x values were averaged with the point(s) at the same x (the first repeat is on this line)"),
+            repeated.first().copied(),
+            format!(
+                "{} repeated x values were averaged with the point(s) at the same x ({})",
+                repeated.len(),
+                rows(&repeated)
+            ),
         ));
     }
-    (xs, ys)
+    (xs, ys, lines)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn averaging_two_of_the_largest_doubles_gives_the_same_double_not_infinity() {
+        let points = [
+            (400.0, 1.7e308, 2),
+            (400.0, 1.7e308, 3),
+            (500.0, -1.7e308, 4),
+        ];
+        let mut warnings = Vec::new();
+        let (x, y, lines) = average_duplicates(&points, &mut warnings);
+        assert_eq!(x, [400.0, 500.0]);
+        assert_eq!(y, [1.7e308, -1.7e308]);
+        assert_eq!(lines, [2, 4]);
+        assert_eq!(warnings[0].line, Some(3));
+    }
+
+    #[test]
+    fn rows_are_listed_up_to_five_then_counted() {
+        assert_eq!(rows(&[7]), "line 7");
+        assert_eq!(
+            rows(&[1, 2, 3, 4, 5, 6, 9]),
+            "lines 1, 2, 3, 4, 5 and 2 more"
+        );
+    }
 }

@@ -14,7 +14,8 @@
 //! 5. the layout is x,y,x,y… (column pairs) or x,y₁,y₂… (one x, many y).
 
 use super::units::XUnit;
-use super::{ImportError, RawReport, RawSpectrum, Warning};
+use super::{check_limit, ImportError, RawReport, RawSpectrum, Warning};
+use super::{MAX_FILE_POINTS, MAX_POINTS, MAX_SPECTRA};
 use std::collections::BTreeMap;
 
 /// How cells are separated.
@@ -264,6 +265,13 @@ pub fn read(text: &str, file_name: &str) -> Result<RawReport, ImportError> {
 
     let file_stem = stem(file_name);
     let pairs = layout.pairs(&used);
+    check_limit(pairs.len(), MAX_SPECTRA, "spectra")?;
+    check_limit(rows.len(), MAX_POINTS, "points in one spectrum")?;
+    check_limit(
+        pairs.len().saturating_mul(rows.len()),
+        MAX_FILE_POINTS,
+        "points in all",
+    )?;
     let mut spectra = Vec::new();
     for (k, &(xc, yc)) in pairs.iter().enumerate() {
         let mut spectrum = column_pair(&rows, xc, yc);

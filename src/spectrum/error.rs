@@ -27,6 +27,8 @@ pub enum ImportError {
     Project(String),
     /// The file is a saved ddlens project, not a spectrum.
     ProjectFile { schema: u32 },
+    /// The file holds more points or spectra than the import limits allow.
+    TooLarge(String),
 }
 
 impl ImportError {
@@ -53,7 +55,10 @@ impl fmt::Display for ImportError {
             ImportError::Malformed { line, message } | ImportError::Unsupported { line, message } => {
                 with_line(f, line, message)
             }
-            ImportError::UnknownXUnit(m) | ImportError::BadOption(m) | ImportError::Project(m) => {
+            ImportError::UnknownXUnit(m)
+            | ImportError::BadOption(m)
+            | ImportError::Project(m)
+            | ImportError::TooLarge(m) => {
                 f.write_str(m)
             }
             ImportError::ProjectFile { schema } => write!(

@@ -16,7 +16,8 @@
 //! - Y = stored × YFACTOR, X = stored × XFACTOR.
 
 use super::asdf::{decode_line, is_asdf_char, LineEnd};
-use super::{ImportError, RawReport, RawSpectrum, Warning};
+use super::{check_limit, ImportError, RawReport, RawSpectrum, Warning};
+use super::{MAX_FILE_POINTS, MAX_POINTS, MAX_SPECTRA};
 use std::collections::BTreeMap;
 
 /// Is this text a JCAMP-DX file (its first non-blank line starts with `##`)?
@@ -115,9 +116,6 @@ fn blocks(text: &str) -> Vec<Block> {
     done
 }
 
-/// Most points one XYDATA table may hold.
-const MAX_POINTS: usize = 50_000_000;
-
 const DATA_LABELS: [&str; 6] = [
     "XYDATA",
     "XYPOINTS",
@@ -132,6 +130,7 @@ pub fn read(text: &str) -> Result<RawReport, ImportError> {
     let mut spectra = Vec::new();
     let mut warnings = Vec::new();
     let mut unsupported: Option<(usize, String)> = None;
+    let mut total = 0usize;
     for block in blocks(text) {
         if let Some(nt) = block.get("NTUPLES") {
             let msg = format!(
@@ -160,7 +159,10 @@ pub fn read(text: &str) -> Result<RawReport, ImportError> {
         } else {
             continue;
         };
+        total += spectrum.x.len();
+        check_limit(total, MAX_FILE_POINTS, "points in all")?;
         spectra.push(spectrum);
+        check_limit(spectra.len(), MAX_SPECTRA, "spectra")?;
     }
     if spectra.is_empty() {
         return Err(match unsupported {
@@ -283,12 +285,11 @@ fn xydata(block: &Block, record: &Record) -> Result<RawSpectrum, ImportError> {
                 }
             }
         }
-        if ys.len() > MAX_POINTS {
-            return Err(ImportError::Unsupported {
-                line: Some(*number),
-                message: format!("the table has more than {MAX_POINTS} points"),
-            });
-        }
+        check_limit(
+            ys.len() + y_line.len(),
+            MAX_POINTS,
+            "points in one spectrum",
+        )?;
         line_starts.push((ys.len(), x * xfactor, *number));
         ys.extend_from_slice(y_line);
         lines.extend(std::iter::repeat_n(*number, y_line.len()));
@@ -395,6 +396,7 @@ fn groups(block: &Block, record: &Record) -> Result<RawSpectrum, ImportError> {
             message: m,
         })?;
         values.extend(decoded.values.into_iter().map(|v| (v, *number)));
+        check_limit(values.len() / size, MAX_POINTS, "points in one spectrum")?;
     }
     if values.len() % size != 0 {
         s.warnings.push(Warning::new(
@@ -447,7 +449,10 @@ fn drop_missing(s: &mut RawSpectrum) {
     });
     s.warnings.push(Warning::new(
         first,
-        format!("{} missing ('?') values were skipped", before - s.x.len()),
+        format!(
+            "{} missing ('?') or overflowing values were skipped",
+            before - s.x.len()
+        ),
     ));
 }
 

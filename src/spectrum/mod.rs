@@ -11,18 +11,32 @@
 //! - [`units`] converts the x axis (nm, µm, cm⁻¹, eV, optional air→vacuum) and
 //!   the y quantity (T, %T, log ε → A or ε);
 //! - `assemble` sorts, averages duplicate x, flags saturation;
-//! - [`project`] recognises the saved-analysis JSON envelope;
 //!
 //! Readers produce [`RawSpectrum`]s in file units; `assemble` makes them
 //! [`Spectrum`]s. Nothing here panics on any input: every failure is an
 //! [`ImportError`] naming the line where possible.
+//!
+//! ## Limits
+//!
+//! Every imported number is finite and bounded, checked after each step
+//! (reading, duplicate averaging, unit conversion, division by c·l); a point
+//! that fails is dropped with a warning naming its rows:
+//!
+//! - wavenumbers lie in [`WAVENUMBER_RANGE`] (10⁻⁶ … 10¹² cm⁻¹);
+//! - ordinates satisfy |y| ≤ [`MAX_MAGNITUDE`] (10¹⁰⁰), so spans, sums of squares
+//!   over [`MAX_POINTS`] points and plot ranges stay finite.
+//!
+//! Work is bounded: a spectrum holds at most [`MAX_POINTS`] points, a file at most
+//! [`MAX_SPECTRA`] spectra and [`MAX_FILE_POINTS`] points in all (JCAMP-DX DUP
+//! counts included); a larger file is refused with [`ImportError::TooLarge`].
+//! Names and metadata lose their control characters (they are not allowed in XML,
+//! so an SVG export carrying them would be invalid).
 
 pub mod asdf;
 mod assemble;
 pub mod delimited;
 mod error;
 pub mod jcamp;
-pub mod project;
 pub mod saturation;
 pub mod text;
 pub mod units;
@@ -32,6 +46,44 @@ use std::collections::BTreeMap;
 
 pub use error::ImportError;
 pub use units::{Quantity, XUnit};
+
+/// Most points one spectrum may hold.
+pub const MAX_POINTS: usize = 2_000_000;
+/// Most spectra one file may hold.
+pub const MAX_SPECTRA: usize = 1_000;
+/// Most points one file may hold over all its spectra.
+pub const MAX_FILE_POINTS: usize = 5_000_000;
+/// Largest absolute ordinate kept at import.
+pub const MAX_MAGNITUDE: f64 = 1e100;
+/// Smallest and largest wavenumber (cm⁻¹) kept at import.
+pub const WAVENUMBER_RANGE: [f64; 2] = [1e-6, 1e12];
+
+/// Refuses a count above its limit with a sentence naming both.
+pub(crate) fn check_limit(found: usize, limit: usize, what: &str) -> Result<(), ImportError> {
+    if found > limit {
+        return Err(ImportError::TooLarge(format!(
+            "the file holds more than {limit} {what}, the most ddlens reads"
+        )));
+    }
+    Ok(())
+}
+
+/// Text without control characters (not allowed in XML), for names and metadata.
+/// Tabs and line breaks become blanks unless `keep_lines` keeps `\n` and `\t`.
+pub fn clean_text(text: &str, keep_lines: bool) -> String {
+    let invalid = |c: char| c.is_control() || matches!(c, '\u{FFFE}' | '\u{FFFF}');
+    if !text.chars().any(invalid) {
+        return text.to_string();
+    }
+    text.chars()
+        .filter_map(|c| match c {
+            '\n' | '\t' if keep_lines => Some(c),
+            '\n' | '\t' | '\r' => Some(' '),
+            c if invalid(c) => None,
+            c => Some(c),
+        })
+        .collect()
+}
 
 /// One spectrum on the internal axis.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -142,7 +194,8 @@ pub fn read_raw(bytes: &[u8], file_name: &str) -> Result<RawReport, ImportError>
     if body.starts_with('{') {
         return match serde_json::from_str::<serde_json::Value>(body) {
             Ok(value) => {
-                let schema = project::check_envelope(&value)?;
+                let schema = crate::analysis::schema_of(&value)
+                    .map_err(|e| ImportError::Project(e.to_string()))?;
                 Err(ImportError::ProjectFile { schema })
             }
             Err(_) => Err(ImportError::Malformed {
@@ -156,6 +209,17 @@ pub fn read_raw(bytes: &[u8], file_name: &str) -> Result<RawReport, ImportError>
     } else {
         delimited::read(&decoded.text, file_name)?
     };
+    check_limit(report.spectra.len(), MAX_SPECTRA, "spectra")?;
+    let total = report.spectra.iter().map(|s| s.x.len()).sum();
+    check_limit(total, MAX_FILE_POINTS, "points in all")?;
+    for s in &mut report.spectra {
+        check_limit(s.x.len(), MAX_POINTS, "points in one spectrum")?;
+        s.name = clean_text(&s.name, false);
+        s.metadata = std::mem::take(&mut s.metadata)
+            .into_iter()
+            .map(|(k, v)| (clean_text(&k, false), clean_text(&v, true)))
+            .collect();
+    }
     warnings.append(&mut report.warnings);
     report.warnings = warnings;
     Ok(report)

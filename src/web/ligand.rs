@@ -2,11 +2,10 @@
 //! analysis, the assignment fit and the energy-level diagram.
 
 use super::{from_js, to_js};
+use crate::analysis::{self, Document};
 use crate::figures::diagram::{draw_diagram, DiagramStyle};
 use crate::figures::series::{draw_series, series_svg, SeriesPoint};
 use crate::ligand_field::{self, Geometry, Params};
-use crate::pipeline::{self, AnalysisOptions};
-use crate::spectrum::{Quantity, Spectrum, XUnit};
 use plotters::prelude::IntoDrawingArea;
 use plotters_canvas::CanvasBackend;
 use serde::Deserialize;
@@ -37,36 +36,18 @@ pub fn levels(n: u8, geometry_name: &str, dq: f64, b: f64, c: f64) -> Result<JsV
     to_js(&m.levels(&Params { dq, b, c })?)
 }
 
-/// A spectrum as the page holds it (after its own cleaning steps).
-#[derive(Deserialize)]
-struct SpectrumIn {
-    name: String,
-    wavenumber: Vec<f64>,
-    values: Vec<f64>,
-    #[serde(default)]
-    quantity: Option<Quantity>,
-    #[serde(default)]
-    saturated: Vec<[f64; 2]>,
+/// Analyses a document (the same function as `ddlens analyze`): returns it
+/// with its results.
+#[wasm_bindgen]
+pub fn analyze(document: JsValue) -> Result<JsValue, JsError> {
+    let doc: Document = from_js(document, "the analysis document")?;
+    to_js(&analysis::analyze(&doc, &mut |_| true)?)
 }
 
-/// The whole analysis of one spectrum (the same function as `ddlens analyze`).
+/// Every default the page needs (`analysis::defaults::Defaults`).
 #[wasm_bindgen]
-pub fn analyze(spectrum: JsValue, options: JsValue) -> Result<JsValue, JsError> {
-    let s: SpectrumIn = from_js(spectrum, "the spectrum")?;
-    let opts: AnalysisOptions = from_js(options, "the analysis options")?;
-    let spectrum = Spectrum {
-        name: s.name,
-        wavenumber: s.wavenumber,
-        values: s.values,
-        quantity: s.quantity.unwrap_or(Quantity::Absorbance),
-        x_unit_read: XUnit::Wavenumber,
-        saturated: s.saturated,
-        metadata: std::collections::BTreeMap::new(),
-        warnings: Vec::new(),
-    };
-    to_js(&pipeline::analyze_spectrum(&spectrum, &opts, &mut |_| {
-        true
-    })?)
+pub fn defaults() -> Result<JsValue, JsError> {
+    to_js(&analysis::defaults::Defaults::get())
 }
 
 /// The assignment search and fit for given band maxima (after the user edits the assignment).

@@ -144,7 +144,7 @@ struct BandRequest {
     quantity: Option<crate::spectrum::Quantity>,
     #[serde(default)]
     saturated: Vec<[f64; 2]>,
-    options: crate::pipeline::AnalysisOptions,
+    options: crate::analysis::BandSetup,
     #[serde(default)]
     model: Option<crate::bands::BandModel>,
 }
@@ -169,8 +169,8 @@ struct FitView {
     residual: Vec<f64>,
 }
 
-/// The band fit of `ddlens deconvolve` (`pipeline::deconvolve`, or
-/// `pipeline::refit` from the given model): same points, weights and options.
+/// The band fit of `ddlens deconvolve` (`analysis::deconvolve`, or
+/// `analysis::refit` from the given model): same points, weights and options.
 /// `progress` is called with the iteration number; returning false cancels.
 #[wasm_bindgen]
 pub fn deconvolve_bands(
@@ -198,8 +198,8 @@ pub fn deconvolve_bands(
             .map_or(true, |v| v.as_bool() != Some(false))
     };
     let d = match &req.model {
-        Some(model) => crate::pipeline::refit(&spectrum, model, &req.options, &mut report),
-        None => crate::pipeline::deconvolve(&spectrum, &req.options, &mut report),
+        Some(model) => crate::analysis::refit(&spectrum, model, &req.options, &mut report),
+        None => crate::analysis::deconvolve(&spectrum, &req.options, &mut report),
     }
     .map_err(|e| JsError::new(&e.to_string()))?;
     let (total, components, baseline) = crate::bands::evaluate(&spectrum.wavenumber, &d.fit);

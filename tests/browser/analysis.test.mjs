@@ -58,8 +58,8 @@ test('choosing a state or "not d–d" for a band refits as ddlens analyze does; 
   // `ddlens analyze` with the same choices on the same file gives the same fit.
   const same = runCli(['analyze', 'fixtures/demo/demo-crx7.csv', '--ion', 'Cr3+', '--bands', '2', '--b0-source', 'common',
     '--band', `${one.observed[0].energy}:x`, '--band', `${one.observed[1].energy}:4T1g(P)`, '--json']);
-  assert.deepEqual(same.fit.best.assignment.map((a) => a.state), one.states);
-  assert.ok(Math.abs(same.fit.best.derived.delta.value - one.delta) <= 1e-3 * one.delta);
+  assert.deepEqual(same.results.fit.best.assignment.map((a) => a.state), one.states);
+  assert.ok(Math.abs(same.results.fit.best.derived.delta.value - one.delta) <= 1e-3 * one.delta);
   // A share link carries the choices to a fresh browser.
   await page.locator('#share-link').click();
   await page.waitForFunction(() => document.querySelector('#share-output').value.includes('#project='));

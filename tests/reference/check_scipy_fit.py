@@ -38,7 +38,7 @@ for name, truth, noise in CASES:
     n = len(truth)
     t = (x - 0.5 * (x.min() + x.max())) / (0.5 * (x.max() - x.min()))
     # ddlens weights each point by its share of the wavenumber axis (trapezoid
-    # weights, mean 1; src/pipeline.rs): on this even grid the two end points get ½.
+    # weights, mean 1; src/analysis/mod.rs): on this even grid the two end points get ½.
     wt = np.r_[0.5 * (x[1] - x[0]), 0.5 * (x[2:] - x[:-2]), 0.5 * (x[-1] - x[-2])]
     wt = wt / wt.mean()
     sw = np.sqrt(wt)

@@ -1,9 +1,13 @@
-//! The whole analysis in one function: import → preprocessing → band
-//! deconvolution → assignment → ligand-field fit.
+//! The analysis of a document: imported data → cleaning steps → band fit
+//! (the user's band model, or the automatic deconvolution) → assignment →
+//! ligand-field fit.
 //!
-//! The browser (through the wasm facade) and `ddlens analyze` both call
-//! [`analyze_spectrum`] / [`analyze_file`] with the same [`AnalysisOptions`],
-//! so the page and the shell give identical numbers for the same file.
+//! [`analyze`] takes a [`Document`] and returns it with its [`Results`]
+//! filled in. The page (through the wasm facade) and `ddlens analyze` both
+//! call it, so the page and the shell give identical numbers for the same
+//! document. Its halves are public too: [`deconvolve`] (automatic band fit),
+//! [`refit`] (the user's band model) and [`assign`] (assignment and fit from a
+//! given band fit).
 //!
 //! Choices made here (each also stated in the output's warnings where it applies):
 //! - points inside saturated ranges are left out of the band fit;
@@ -11,81 +15,47 @@
 //!   weights normalised to a mean of 1), so a grid even in wavelength does not
 //!   over-weight the near infrared;
 //! - a band's position uncertainty for the ligand-field fit is its fitted σ
-//!   combined in quadrature with 0.5 % of its energy, an allowance for the
+//!   combined in quadrature with [`defaults::POSITION_ALLOWANCE`] (0.5 %) of its energy, an allowance for the
 //!   band-shape model (common practice: maxima of broad d–d bands are rarely
 //!   reproducible to better than about 0.5–1 %);
 //! - bands narrower than 800 cm⁻¹ are read as spin-flip lines, so spin-forbidden
 //!   transitions are considered (common practice: spin-forbidden intraconfigurational
 //!   bands are tens to hundreds of cm⁻¹ wide);
 //! - when there are more bands than the model has transitions, the highest
-//!   are set aside as not d–d (assumed charge transfer), one at a time;
+//!   unforced band is set aside as not d–d (assumed charge transfer), one at
+//!   a time; when every band left is forced, the fit stops with a reason;
 //! - unless a baseline is given, a linear and a scattering (Rayleigh-like,
 //!   a + b·ν̃ⁿ with n free) baseline are both tried and the lower BIC wins
 //!   (common practice: glasses, powders and turbid solutions scatter; left as
 //!   a straight line, the curvature is taken up by small spurious bands at the
 //!   high-energy end);
-//! - the user's per-band choices (a forced state or "not d–d", given as the
-//!   `bands` of the ligand-field request) are matched by energy to the bands
+//! - the user's per-band choices (a forced state or "not d–d", the
+//!   [`Choice`]s of the ligand-field options) are matched by energy to the bands
 //!   the deconvolution finds: each choice goes to the nearest band within
-//!   [`CHOICE_MATCH`] of its energy, so the choices survive a re-analysis
+//!   [`defaults::CHOICE_MATCH`] of its energy, so the choices survive a re-analysis
 //!   that moves the maxima a little.
 
-use crate::bands::{self, BandFit, BandModel, BaselineModel, FitOptions, Shape};
+use crate::bands::{self, BandFit, BandModel, BaselineModel, FitOptions};
 use crate::lf_fit::{self, FitOutcome, FitRequest, LfFitError, ObservedBand};
 use crate::preprocess;
-use crate::spectrum::{self, ImportOptions, Quantity, Spectrum, Warning, XUnit};
+use crate::spectrum::{self, Quantity, Spectrum, Warning, XUnit};
 use serde::{Deserialize, Serialize};
 use std::fmt;
 
-/// How many bands to fit.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
-#[serde(rename_all = "lowercase")]
-pub enum BandCount {
-    /// Chosen by BIC among 1…max.
-    Auto(usize),
-    Fixed(usize),
-}
+pub mod defaults;
+pub mod document;
+mod load;
+mod migrate;
+mod validate;
 
-/// Every choice of an analysis.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-pub struct AnalysisOptions {
-    #[serde(default)]
-    pub import: ImportOptions,
-    /// Which spectrum of the file (0 = first).
-    #[serde(default)]
-    pub spectrum: usize,
-    /// Fit only this wavenumber range, cm⁻¹.
-    #[serde(default)]
-    pub range: Option<[f64; 2]>,
-    pub bands: BandCount,
-    pub shape: Shape,
-    /// The baseline under the bands; `None` (the default) chooses between a
-    /// linear and a scattering baseline by BIC.
-    #[serde(default)]
-    pub baseline: Option<BaselineModel>,
-    pub max_iterations: usize,
-    /// The ligand-field choices; its `bands` and `observed_from` are filled
-    /// from the band table and the spectrum, except that the `assign` and
-    /// `not_dd` of any `bands` given here are kept (see [`apply_choices`]).
-    /// Without it the analysis stops after the band table.
-    #[serde(default)]
-    pub ligand_field: Option<FitRequest>,
-}
+pub use crate::bands::model_of;
+pub use document::{
+    BandCount, BandSetup, Choice, Display, Document, LigandFieldOptions, PageState, Project,
+    Results, Sample, SampleData, SeriesSort, Source, View, SCHEMA,
+};
+pub use load::{schema_of, DocumentError};
 
-impl Default for AnalysisOptions {
-    fn default() -> Self {
-        AnalysisOptions {
-            import: ImportOptions::default(),
-            spectrum: 0,
-            range: None,
-            bands: BandCount::Auto(6),
-            shape: Shape::Gaussian,
-            baseline: None,
-            max_iterations: 200,
-            ligand_field: None,
-        }
-    }
-}
+use defaults::NARROW_BAND;
 
 /// What was imported (as `ddlens import` reports it).
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -127,21 +97,6 @@ pub struct Deconvolution {
     pub reduced_chi2_per_band_count: Option<Vec<(usize, Option<f64>)>>,
 }
 
-/// The result of an analysis.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-pub struct Analysis {
-    pub import: ImportSummary,
-    pub bands: Deconvolution,
-    /// The band maxima handed to the ligand-field fit.
-    pub observed: Vec<ObservedBand>,
-    /// The ligand-field fit (as `ddlens fit`), when requested and possible.
-    pub fit: Option<FitOutcome>,
-    /// Why there is no ligand-field fit, when one was requested.
-    pub fit_error: Option<String>,
-    pub warnings: Vec<String>,
-    pub version: String,
-}
-
 /// Why an analysis stopped.
 #[derive(Debug, Clone, PartialEq)]
 pub enum AnalysisError {
@@ -153,6 +108,10 @@ pub enum AnalysisError {
     TooFewPoints(usize),
     /// The band fit failed.
     Bands(bands::BandFitError),
+    /// A cleaning step could not run.
+    Clean(preprocess::PreprocessError),
+    /// The document holds no data and names no file to read it from.
+    NoData,
 }
 
 impl fmt::Display for AnalysisError {
@@ -170,36 +129,29 @@ impl fmt::Display for AnalysisError {
                 write!(f, "only {n} usable points are left in the chosen range")
             }
             AnalysisError::Bands(e) => write!(f, "the band fit failed: {e}"),
+            AnalysisError::Clean(e) => write!(f, "the cleaning failed: {e}"),
+            AnalysisError::NoData => f.write_str("the sample holds no data to analyse"),
         }
     }
 }
 
 impl std::error::Error for AnalysisError {}
 
-/// Reads a file and runs the whole analysis on the chosen spectrum.
-pub fn analyze_file(
-    bytes: &[u8],
-    file_name: &str,
-    opts: &AnalysisOptions,
-) -> Result<Analysis, AnalysisError> {
-    let spectrum = pick_spectrum(bytes, file_name, opts)?;
-    analyze_spectrum(&spectrum, opts, &mut |_| true)
-}
-
-/// Imports a file and returns the spectrum `opts.spectrum`.
+/// Imports a file and returns the spectrum `source.spectrum`, read with `source.import`.
 pub fn pick_spectrum(
     bytes: &[u8],
     file_name: &str,
-    opts: &AnalysisOptions,
+    source: &Source,
 ) -> Result<Spectrum, AnalysisError> {
-    let report = spectrum::import(bytes, file_name, &opts.import).map_err(AnalysisError::Import)?;
+    let report =
+        spectrum::import(bytes, file_name, &source.import).map_err(AnalysisError::Import)?;
     let found = report.spectra.len();
     report
         .spectra
         .into_iter()
-        .nth(opts.spectrum)
+        .nth(source.spectrum)
         .ok_or(AnalysisError::NoSuchSpectrum {
-            asked: opts.spectrum,
+            asked: source.spectrum,
             found,
         })
 }
@@ -228,10 +180,10 @@ pub fn fit_points(s: &Spectrum, range: Option<[f64; 2]>) -> FitPoints {
     out
 }
 
-/// [`fit_points`] in the options' range, or an error when too few are left to fit.
-fn enough_points(s: &Spectrum, opts: &AnalysisOptions) -> Result<FitPoints, AnalysisError> {
-    let points = fit_points(s, opts.range);
-    if points.0.len() < 8 {
+/// [`fit_points`] in the setup's range, or an error when too few are left to fit.
+fn enough_points(s: &Spectrum, setup: &BandSetup) -> Result<FitPoints, AnalysisError> {
+    let points = fit_points(s, setup.range);
+    if points.0.len() < defaults::MIN_FIT_POINTS {
         return Err(AnalysisError::TooFewPoints(points.0.len()));
     }
     Ok(points)
@@ -240,20 +192,20 @@ fn enough_points(s: &Spectrum, opts: &AnalysisOptions) -> Result<FitPoints, Anal
 /// Resolves the bands of a spectrum (the band-table half of the analysis).
 pub fn deconvolve(
     s: &Spectrum,
-    opts: &AnalysisOptions,
+    setup: &BandSetup,
     progress: &mut dyn FnMut(bands::lm::Progress) -> bool,
 ) -> Result<Deconvolution, AnalysisError> {
-    let (x, y, w) = enough_points(s, opts)?;
-    let fit_opts = fit_options(s, opts);
-    let candidates = match opts.baseline {
+    let (x, y, w) = enough_points(s, setup)?;
+    let fit_opts = fit_options(s, setup);
+    let candidates = match setup.baseline {
         Some(b) => vec![b],
-        None => vec![BaselineModel::Linear, BaselineModel::Scattering],
+        None => defaults::BASELINE_CANDIDATES.to_vec(),
     };
     let mut best: Option<Deconvolution> = None;
     let mut tried = Vec::new();
     let mut last_error = None;
     for &baseline in &candidates {
-        match deconvolve_with(&x, &y, &w, opts, baseline, &fit_opts, progress) {
+        match deconvolve_with(&x, &y, &w, setup, baseline, &fit_opts, progress) {
             Ok(d) => {
                 let bic = d.fit.statistics.bic.unwrap_or(f64::INFINITY);
                 tried.push(format!("{baseline} {bic:.1}"));
@@ -287,19 +239,19 @@ fn deconvolve_with(
     x: &[f64],
     y: &[f64],
     w: &[f64],
-    opts: &AnalysisOptions,
+    setup: &BandSetup,
     baseline: BaselineModel,
     fit_opts: &FitOptions,
     progress: &mut dyn FnMut(bands::lm::Progress) -> bool,
 ) -> Result<Deconvolution, AnalysisError> {
-    match opts.bands {
+    match setup.count {
         BandCount::Auto(max) => {
             let r = bands::select_band_count(
                 x,
                 y,
                 Some(w),
-                max.clamp(1, 12),
-                opts.shape,
+                max.clamp(1, defaults::MAX_AUTO_BANDS),
+                setup.shape,
                 baseline,
                 fit_opts,
             )
@@ -311,12 +263,12 @@ fn deconvolve_with(
             })
         }
         BandCount::Fixed(n) => {
-            let mut specs = bands::guess(x, y, Some(n.clamp(1, 30)));
+            let mut specs = bands::guess(x, y, Some(n.clamp(1, defaults::MAX_BANDS)));
             if specs.is_empty() {
                 return Err(AnalysisError::TooFewPoints(x.len()));
             }
             for b in &mut specs {
-                b.shape = opts.shape;
+                b.shape = setup.shape;
             }
             let model = BandModel {
                 bands: specs,
@@ -339,11 +291,11 @@ fn deconvolve_with(
 pub fn refit(
     s: &Spectrum,
     model: &BandModel,
-    opts: &AnalysisOptions,
+    setup: &BandSetup,
     progress: &mut dyn FnMut(bands::lm::Progress) -> bool,
 ) -> Result<Deconvolution, AnalysisError> {
-    let (x, y, w) = enough_points(s, opts)?;
-    let fit = bands::fit(&x, &y, Some(&w), model, &fit_options(s, opts), progress)
+    let (x, y, w) = enough_points(s, setup)?;
+    let fit = bands::fit(&x, &y, Some(&w), model, &fit_options(s, setup), progress)
         .map_err(AnalysisError::Bands)?;
     Ok(Deconvolution {
         fit,
@@ -352,16 +304,13 @@ pub fn refit(
     })
 }
 
-fn fit_options(s: &Spectrum, opts: &AnalysisOptions) -> FitOptions {
+fn fit_options(s: &Spectrum, setup: &BandSetup) -> FitOptions {
     FitOptions {
-        max_iterations: opts.max_iterations,
+        max_iterations: setup.max_iterations,
         molar_absorptivity: s.quantity == Quantity::MolarAbsorptivity,
         ..FitOptions::default()
     }
 }
-
-/// Width below which a band is read as a spin-flip line, cm⁻¹ (see the module docs).
-pub const NARROW_BAND: f64 = 800.0;
 
 /// The band maxima of a band fit, as input to the ligand-field fit.
 pub fn observed_bands(fit: &BandFit, quantity: Quantity) -> Vec<ObservedBand> {
@@ -373,7 +322,7 @@ pub fn observed_bands(fit: &BandFit, quantity: Quantity) -> Vec<ObservedBand> {
             let stat = b.centre.sigma.unwrap_or(0.0);
             ObservedBand {
                 energy,
-                sigma: Some((stat * stat + (0.005 * energy).powi(2)).sqrt()),
+                sigma: Some((stat * stat + (defaults::POSITION_ALLOWANCE * energy).powi(2)).sqrt()),
                 epsilon: (quantity == Quantity::MolarAbsorptivity).then_some(b.height.value),
                 fwhm: Some(b.fwhm.value),
                 not_dd: false,
@@ -383,18 +332,15 @@ pub fn observed_bands(fit: &BandFit, quantity: Quantity) -> Vec<ObservedBand> {
         .collect()
 }
 
-/// How far (as a fraction of its energy) a choice may lie from the band it is matched to.
-pub const CHOICE_MATCH: f64 = 0.03;
-
 /// Copies the user's choices (`assign`, `not_dd`) onto the nearest band of
-/// `observed` within [`CHOICE_MATCH`]; returns a warning for each choice that
-/// matched no band. A choice with neither is ignored.
-pub fn apply_choices(observed: &mut [ObservedBand], choices: &[ObservedBand]) -> Vec<String> {
+/// `observed` within [`defaults::CHOICE_MATCH`]; returns a warning for each
+/// choice that matched no band. A choice with neither is ignored.
+pub fn apply_choices(observed: &mut [ObservedBand], choices: &[Choice]) -> Vec<String> {
     let mut warnings = Vec::new();
     for c in choices.iter().filter(|c| c.not_dd || c.assign.is_some()) {
         let nearest = observed
             .iter_mut()
-            .filter(|b| (b.energy - c.energy).abs() <= CHOICE_MATCH * c.energy.abs())
+            .filter(|b| (b.energy - c.energy).abs() <= defaults::CHOICE_MATCH * c.energy.abs())
             .min_by(|a, b| {
                 (a.energy - c.energy)
                     .abs()
@@ -414,71 +360,139 @@ pub fn apply_choices(observed: &mut [ObservedBand], choices: &[ObservedBand]) ->
     warnings
 }
 
-/// Runs the analysis on a spectrum already imported (the browser's entry point).
-pub fn analyze_spectrum(
+/// The ligand-field half of an analysis: the band maxima handed to the fit
+/// (with the user's choices applied), the fit or why there is none, and warnings.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Assignment {
+    pub observed: Vec<ObservedBand>,
+    pub fit: Option<FitOutcome>,
+    pub fit_error: Option<String>,
+    pub warnings: Vec<String>,
+}
+
+/// Assigns the bands of a band fit and fits the ligand field to them.
+///
+/// When the bands outnumber what the model can take, the highest unforced
+/// band is set aside as not d–d, one at a time; when every remaining band is
+/// forced (or only one is left), the search stops with the fit's error.
+pub fn assign(
+    bands: &Deconvolution,
     s: &Spectrum,
-    opts: &AnalysisOptions,
-    progress: &mut dyn FnMut(bands::lm::Progress) -> bool,
-) -> Result<Analysis, AnalysisError> {
-    let bands = deconvolve(s, opts, progress)?;
+    range: Option<[f64; 2]>,
+    lf: &LigandFieldOptions,
+) -> Assignment {
     let mut observed = observed_bands(&bands.fit, s.quantity);
-    let mut warnings = Vec::new();
+    let mut warnings = apply_choices(&mut observed, &lf.choices);
+    let narrow = observed
+        .iter()
+        .any(|b| b.fwhm.is_some_and(|w| w < NARROW_BAND));
+    if narrow && !lf.spin_forbidden {
+        warnings.push(format!("a band narrower than {NARROW_BAND:.0} cm⁻¹ was found: spin-forbidden transitions were considered too"));
+    }
+    let mut req = FitRequest {
+        bands: observed,
+        spin_forbidden: lf.spin_forbidden || narrow,
+        observed_from: s
+            .wavenumber
+            .first()
+            .copied()
+            .map(|lo| range.map_or(lo, |r| lo.max(r[0]))),
+        ..lf.request()
+    };
     let (mut fit, mut fit_error) = (None, None);
-    if let Some(lf) = &opts.ligand_field {
-        warnings.extend(apply_choices(&mut observed, &lf.bands));
-        let narrow = observed
-            .iter()
-            .any(|b| b.fwhm.is_some_and(|w| w < NARROW_BAND));
-        if narrow && !lf.spin_forbidden {
-            warnings.push(format!("a band narrower than {NARROW_BAND:.0} cm⁻¹ was found: spin-forbidden transitions were considered too"));
-        }
-        let mut req = FitRequest {
-            bands: observed.clone(),
-            spin_forbidden: lf.spin_forbidden || narrow,
-            observed_from: s
-                .wavenumber
-                .first()
-                .copied()
-                .map(|lo| opts.range.map_or(lo, |r| lo.max(r[0]))),
-            ..lf.clone()
-        };
-        loop {
-            match lf_fit::fit(&req) {
-                Ok(o) => {
-                    fit = Some(o);
-                    break;
-                }
-                Err(LfFitError::NoCandidates(m))
-                    if req.bands.iter().filter(|b| !b.not_dd).count() > 1 =>
+    loop {
+        match lf_fit::fit(&req) {
+            Ok(o) => {
+                fit = Some(o);
+                break;
+            }
+            Err(LfFitError::NoCandidates(m))
+                if req.bands.iter().filter(|b| !b.not_dd).count() > 1 =>
+            {
+                if let Some(top) = req
+                    .bands
+                    .iter_mut()
+                    .filter(|b| !b.not_dd && b.assign.is_none())
+                    .max_by(|a, b| a.energy.total_cmp(&b.energy))
                 {
-                    if let Some(top) = req
-                        .bands
-                        .iter_mut()
-                        .filter(|b| !b.not_dd && b.assign.is_none())
-                        .max_by(|a, b| a.energy.total_cmp(&b.energy))
-                    {
-                        top.not_dd = true;
-                        warnings.push(format!(
-                            "the band at {:.0} cm⁻¹ was set aside as not d–d ({m})",
-                            top.energy
-                        ));
-                    }
-                }
-                Err(e) => {
-                    fit_error = Some(e.to_string());
+                    top.not_dd = true;
+                    warnings.push(format!(
+                        "the band at {:.0} cm⁻¹ was set aside as not d–d ({m})",
+                        top.energy
+                    ));
+                } else {
+                    fit_error = Some(format!(
+                        "{m}; every band left has a forced state, so none can be set aside: the forced states cannot all hold at once (check their order) — change or remove one"
+                    ));
                     break;
                 }
             }
+            Err(e) => {
+                fit_error = Some(e.to_string());
+                break;
+            }
         }
-        observed = req.bands;
     }
-    Ok(Analysis {
-        import: ImportSummary::of(s),
-        bands,
-        observed,
+    Assignment {
+        observed: req.bands,
         fit,
         fit_error,
         warnings,
-        version: crate::VERSION.to_string(),
-    })
+    }
+}
+
+/// The spectrum a document's sample holds, as imported (before cleaning).
+pub fn sample_spectrum(doc: &Document) -> Result<Spectrum, AnalysisError> {
+    let data = doc.sample.data.as_ref().ok_or(AnalysisError::NoData)?;
+    Ok(data.spectrum(&doc.sample.name, &doc.sample.metadata))
+}
+
+/// Analyses a document: its data, cleaned by its steps, fitted with its band
+/// model (or deconvolved automatically when it has none), then assigned and
+/// fitted with its ligand-field options. Returns the document with `results`
+/// and `program` filled in.
+///
+/// ```
+/// use ddlens::analysis::{analyze, BandCount, BandSetup, Document, Source};
+/// let csv = std::fs::read("fixtures/demo/demo-crx7.csv").unwrap();
+/// let setup = BandSetup { count: BandCount::Fixed(2), ..BandSetup::default() };
+/// let doc = Document::import(&csv, "demo-crx7.csv", Source::default(), setup).unwrap();
+/// let done = analyze(&doc, &mut |_| true).unwrap();
+/// let results = done.results.unwrap();
+/// assert_eq!(results.bands.fit.bands.len(), 2);
+/// // The demo's first band is ν₁ = 10Dq = 16 500 cm⁻¹ (fixtures/demo/README.md).
+/// assert!((results.observed[0].energy - 16_500.0).abs() < 200.0);
+/// ```
+pub fn analyze(
+    doc: &Document,
+    progress: &mut dyn FnMut(bands::lm::Progress) -> bool,
+) -> Result<Document, AnalysisError> {
+    let raw = sample_spectrum(doc)?;
+    let (s, cleaning) = preprocess::apply_steps(&raw, &doc.steps).map_err(AnalysisError::Clean)?;
+    let bands = match &doc.bands.model {
+        Some(model) => refit(&s, model, &doc.bands, progress)?,
+        None => deconvolve(&s, &doc.bands, progress)?,
+    };
+    let a = match &doc.ligand_field {
+        Some(lf) => assign(&bands, &s, doc.bands.range, lf),
+        None => Assignment {
+            observed: observed_bands(&bands.fit, s.quantity),
+            fit: None,
+            fit_error: None,
+            warnings: Vec::new(),
+        },
+    };
+    let mut warnings: Vec<String> = cleaning.into_iter().map(|w| w.message).collect();
+    warnings.extend(a.warnings);
+    let mut out = doc.clone();
+    out.results = Some(Results {
+        import: ImportSummary::of(&raw),
+        bands,
+        observed: a.observed,
+        fit: a.fit,
+        fit_error: a.fit_error,
+        warnings,
+    });
+    out.program = format!("ddlens {}", crate::VERSION);
+    Ok(out)
 }

@@ -1,0 +1,160 @@
+//! Every default the analysis and the page rely on, defined once.
+//!
+//! The page reads them all through [`Defaults::get`] (the wasm facade's
+//! `defaults()`), so its script holds no science constant of its own.
+
+use super::document::{BandCount, BandSetup};
+use crate::bands::{BaselineModel, Shape};
+use crate::preprocess::BaselineMethod;
+use serde::Serialize;
+
+/// Allowance for the band-shape model in a band maximum's uncertainty, as a
+/// fraction of its energy, added in quadrature to the fitted σ (common
+/// practice: maxima of broad d–d bands are rarely reproducible to better than
+/// about 0.5–1 %).
+pub const POSITION_ALLOWANCE: f64 = 0.005;
+
+/// How far (as a fraction of its energy) a user's choice may lie from the band
+/// it is matched to.
+pub const CHOICE_MATCH: f64 = 0.03;
+
+/// Width below which a band is read as a spin-flip line, cm⁻¹ (common
+/// practice: spin-forbidden intraconfigurational bands are tens to hundreds of
+/// cm⁻¹ wide).
+pub const NARROW_BAND: f64 = 800.0;
+
+/// The band count tried up to when it is chosen automatically.
+pub const AUTO_BANDS: usize = 6;
+/// The largest band count the automatic choice may be asked to try.
+pub const MAX_AUTO_BANDS: usize = 12;
+/// The largest fixed band count.
+pub const MAX_BANDS: usize = 30;
+/// Fewest usable points a band fit needs.
+pub const MIN_FIT_POINTS: usize = 8;
+/// Iteration limit of a band fit.
+pub const MAX_ITERATIONS: usize = 200;
+
+/// The baselines tried under the bands when none is given (lower BIC wins).
+pub const BASELINE_CANDIDATES: [BaselineModel; 2] =
+    [BaselineModel::Linear, BaselineModel::Scattering];
+
+/// Savitzky–Golay smoothing defaults: window (points, odd) and polynomial order.
+pub const SMOOTH_WINDOW: usize = 11;
+pub const SMOOTH_ORDER: usize = 2;
+
+impl Default for BandSetup {
+    fn default() -> Self {
+        BandSetup {
+            count: BandCount::Auto(AUTO_BANDS),
+            shape: Shape::Gaussian,
+            baseline: None,
+            max_iterations: MAX_ITERATIONS,
+            range: None,
+            model: None,
+        }
+    }
+}
+
+/// Number formatting of an [`crate::estimate::Estimate`].
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct NumberFormat {
+    /// Significant digits of an uncertainty; the value is rounded to the same decade.
+    pub sigma_digits: usize,
+    /// Significant digits of a value without uncertainty (trailing zeros dropped).
+    pub plain_digits: usize,
+}
+
+/// The cleaning panel's starting values.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Cleaning {
+    pub smooth_window: usize,
+    pub smooth_order: usize,
+    /// One starting method per baseline kind, with its parameters.
+    pub baselines: Vec<BaselineMethod>,
+}
+
+/// Every default, as the page reads it.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Defaults {
+    /// C/B used when the ion's free-ion table gives none.
+    pub c_over_b_fallback: f64,
+    pub position_allowance: f64,
+    pub choice_match: f64,
+    pub narrow_band: f64,
+    pub auto_bands: usize,
+    pub max_auto_bands: usize,
+    pub max_bands: usize,
+    pub baseline_candidates: Vec<BaselineModel>,
+    pub bands: BandSetup,
+    pub cleaning: Cleaning,
+    /// Sample colours, `#rrggbb`, in the order samples take them (Okabe–Ito).
+    pub palette: Vec<String>,
+    pub number_format: NumberFormat,
+    /// The schema of documents and projects this build writes.
+    pub schema: u32,
+}
+
+impl Defaults {
+    /// The defaults of this build.
+    pub fn get() -> Self {
+        Defaults {
+            c_over_b_fallback: crate::lf_fit::DEFAULT_C_OVER_B,
+            position_allowance: POSITION_ALLOWANCE,
+            choice_match: CHOICE_MATCH,
+            narrow_band: NARROW_BAND,
+            auto_bands: AUTO_BANDS,
+            max_auto_bands: MAX_AUTO_BANDS,
+            max_bands: MAX_BANDS,
+            baseline_candidates: BASELINE_CANDIDATES.to_vec(),
+            bands: BandSetup::default(),
+            cleaning: Cleaning {
+                smooth_window: SMOOTH_WINDOW,
+                smooth_order: SMOOTH_ORDER,
+                baselines: vec![
+                    BaselineMethod::Polynomial {
+                        order: 1,
+                        regions: Vec::new(),
+                    },
+                    BaselineMethod::RubberBand,
+                    BaselineMethod::Asls {
+                        lambda: 1e5,
+                        p: 0.01,
+                    },
+                    BaselineMethod::Arpls { lambda: 1e5 },
+                    BaselineMethod::Scattering { exponent: None },
+                ],
+            },
+            palette: crate::figures::style::SERIES
+                .iter()
+                .map(|c| format!("#{:02x}{:02x}{:02x}", c.0, c.1, c.2))
+                .collect(),
+            number_format: NumberFormat {
+                sigma_digits: crate::estimate::SIGMA_DIGITS,
+                plain_digits: crate::estimate::PLAIN_DIGITS,
+            },
+            schema: super::SCHEMA,
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_palette_reads_as_okabe_ito_hex_colours() {
+        // Okabe & Ito, "Color Universal Design" (2008): blue is (0, 114, 178),
+        // vermillion (213, 94, 0).
+        let v = serde_json::to_value(Defaults::get()).unwrap();
+        assert_eq!(v["palette"][0], "#0072b2");
+        assert_eq!(v["palette"][1], "#d55e00");
+    }
+
+    #[test]
+    fn the_band_setup_default_is_the_documented_one() {
+        let v = serde_json::to_value(Defaults::get()).unwrap();
+        assert_eq!(v["bands"]["count"]["auto"], AUTO_BANDS);
+        assert_eq!(v["bands"]["shape"], "gaussian");
+        assert_eq!(v["c_over_b_fallback"], 4.5);
+    }
+}
