@@ -13,6 +13,10 @@
 //!   the books: treat them as from memory.
 //! - Jørgensen's g (10Dq ≈ f·g) and k (β ≈ 1 − h·k): C. K. Jørgensen, *Modern
 //!   Aspects of Ligand Field Theory* (1971) pp. 347–348, via the same table.
+//! - Free-ion spin–orbit constants ζ₃d (`ZETA_SOURCE`): T. M. Dunn, Trans.
+//!   Faraday Soc. 57 (1961) 1441, as tabulated in Figgis & Hitchman, *Ligand
+//!   Field Theory and Its Applications* (2000); recalled from memory, not
+//!   checked against the papers. The 4d and 5d ions have none here.
 
 use serde::Serialize;
 
@@ -44,7 +48,33 @@ pub struct Ion {
     /// Jørgensen's g (cm⁻¹) and k, where tabulated.
     pub jorgensen_g: Option<f64>,
     pub jorgensen_k: Option<f64>,
+    /// Free-ion spin–orbit constant ζ (cm⁻¹), where tabulated ([`ZETA_SOURCE`]).
+    pub zeta: Option<f64>,
 }
+
+/// Source of the free-ion ζ values (from memory).
+pub const ZETA_SOURCE: &str =
+    "Dunn, Trans. Faraday Soc. 57 (1961) 1441, via Figgis & Hitchman 2000 (from memory)";
+
+/// Free-ion ζ₃d, cm⁻¹ (from memory; [`ZETA_SOURCE`]).
+const ZETA: &[(&str, f64)] = &[
+    ("Ti2+", 123.0),
+    ("Ti3+", 154.0),
+    ("V2+", 167.0),
+    ("V3+", 209.0),
+    ("V4+", 248.0),
+    ("Cr2+", 230.0),
+    ("Cr3+", 273.0),
+    ("Mn2+", 347.0),
+    ("Mn3+", 352.0),
+    ("Fe2+", 410.0),
+    ("Fe3+", 460.0),
+    ("Co2+", 533.0),
+    ("Co3+", 580.0),
+    ("Ni2+", 649.0),
+    ("Ni3+", 715.0),
+    ("Cu2+", 829.0),
+];
 
 impl Ion {
     /// The free-ion parameters from the named source (matched by prefix,
@@ -269,6 +299,10 @@ fn build(row: &Row) -> Ion {
         free_ion,
         jorgensen_g: g,
         jorgensen_k: k,
+        zeta: ZETA
+            .iter()
+            .find(|(s, _)| *s == symbol)
+            .map(|&(_, zeta)| zeta),
     }
 }
 
@@ -452,5 +486,24 @@ mod tests {
         assert_eq!(mn.free_ion(None).unwrap().source, COMMON);
         let cr = ion("Cr3+").unwrap();
         assert!((cr.free_c_over_b().unwrap() - 3850.0 / 918.0).abs() < 1e-12);
+    }
+
+    #[test]
+    fn free_ion_zeta_rises_along_the_3d_row_and_with_charge() {
+        // ζ grows with nuclear charge and with ionic charge (common practice); a
+        // check on the typing of the from-memory table, not on its values.
+        let zeta = |s: &str| ion(s).and_then(|i| i.zeta);
+        for row in [
+            ["Ti2+", "V2+", "Cr2+", "Mn2+", "Fe2+", "Co2+", "Cu2+"].as_slice(),
+            ["Ti3+", "V3+", "Cr3+", "Mn3+", "Fe3+", "Co3+", "Ni3+"].as_slice(),
+        ] {
+            let values: Vec<f64> = row.iter().map(|s| zeta(s).unwrap()).collect();
+            assert!(values.windows(2).all(|w| w[0] < w[1]), "{row:?}");
+        }
+        for element in ["Ti", "V", "Cr", "Mn", "Fe", "Co", "Ni"] {
+            let (two, three) = (zeta(&format!("{element}2+")), zeta(&format!("{element}3+")));
+            assert!(two.unwrap_or(0.0) < three.unwrap(), "{element}");
+        }
+        assert_eq!(zeta("Pt2+"), None);
     }
 }

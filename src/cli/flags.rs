@@ -119,6 +119,14 @@ pub struct Parsed {
     pub ion: Option<String>,
     pub geometry: Option<Geometry>,
     pub dq: Option<f64>,
+    /// `levels --geometry`: also tetragonal or trigonal.
+    pub site_geometry: Option<SiteGeometry>,
+    pub ds: Option<f64>,
+    pub dt: Option<f64>,
+    pub dsigma: Option<f64>,
+    pub dtau: Option<f64>,
+    pub zeta: Option<f64>,
+    pub ligands: Option<String>,
     pub b: Option<f64>,
     pub c: Option<f64>,
     pub dump_ck: bool,
@@ -291,6 +299,110 @@ mod geometry_tests {
         (GEOMETRY.update)(&mut p, Some("td")).unwrap();
         assert_eq!(p.geometry, Some(Geometry::Tetrahedral));
         assert!((GEOMETRY.update)(&mut p, Some("square")).is_err());
+    }
+}
+
+/// The site symmetries `levels` accepts.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum SiteGeometry {
+    Cubic(Geometry),
+    Tetragonal,
+    Trigonal,
+}
+
+/// `levels --geometry`: the cubic names, tetragonal (d4h) or trigonal (d3, d3d).
+pub const SITE_GEOMETRY: Flag = Flag::takes(
+    "--geometry",
+    "G",
+    "octahedral (oh, default), tetrahedral (td), tetragonal (d4h) or trigonal (d3d)",
+    |p, v| {
+        let text = given(v).trim().to_ascii_lowercase();
+        p.site_geometry = Some(match text.as_str() {
+            "tetragonal" | "d4h" => SiteGeometry::Tetragonal,
+            "trigonal" | "d3" | "d3d" => SiteGeometry::Trigonal,
+            _ => SiteGeometry::Cubic(usage(text.parse::<Geometry>()).map_err(|_| {
+                CliError::Usage(format!(
+                    "unknown geometry '{}': use octahedral, tetrahedral, tetragonal or trigonal",
+                    shown(given(v))
+                ))
+            })?),
+        });
+        Ok(())
+    },
+);
+
+macro_rules! field_flag {
+    ($name:ident, $field:ident, $spelling:literal, $value:literal, $help:literal) => {
+        pub const $name: Flag = Flag::takes($spelling, $value, $help, |p, v| {
+            p.$field = Some(number($spelling, v)?);
+            Ok(())
+        });
+    };
+}
+
+field_flag!(
+    DS,
+    ds,
+    "--ds",
+    "DS",
+    "tetragonal Ds in cm⁻¹ (with --geometry tetragonal)"
+);
+field_flag!(
+    DT,
+    dt,
+    "--dt",
+    "DT",
+    "tetragonal Dt in cm⁻¹ (with --geometry tetragonal)"
+);
+field_flag!(
+    DSIGMA,
+    dsigma,
+    "--dsigma",
+    "DSIGMA",
+    "trigonal Dσ in cm⁻¹ (with --geometry trigonal)"
+);
+field_flag!(
+    DTAU,
+    dtau,
+    "--dtau",
+    "DTAU",
+    "trigonal Dτ in cm⁻¹ (with --geometry trigonal)"
+);
+field_flag!(
+    ZETA,
+    zeta,
+    "--zeta",
+    "ZETA",
+    "spin–orbit coupling constant ζ in cm⁻¹ (|ζ| ≤ 10000; default 0)"
+);
+
+pub const LIGANDS: Flag = Flag::takes(
+    "--ligands",
+    "FILE",
+    "angular overlap model: a CSV file with the header x,y,z,e_sigma,e_pi, one ligand per row",
+    |p, v| {
+        p.ligands = v.map(String::from);
+        Ok(())
+    },
+);
+
+#[cfg(test)]
+mod site_tests {
+    use super::*;
+    #[test]
+    fn a_site_geometry_takes_the_low_symmetry_names_too() {
+        let mut p = Parsed::default();
+        (SITE_GEOMETRY.update)(&mut p, Some("D4h")).unwrap();
+        assert_eq!(p.site_geometry, Some(SiteGeometry::Tetragonal));
+        (SITE_GEOMETRY.update)(&mut p, Some("td")).unwrap();
+        assert_eq!(
+            p.site_geometry,
+            Some(SiteGeometry::Cubic(Geometry::Tetrahedral))
+        );
+        assert!((SITE_GEOMETRY.update)(&mut p, Some("square")).is_err());
+        (ZETA.update)(&mut p, Some("649")).unwrap();
+        assert_eq!(p.zeta, Some(649.0));
+        assert!((DSIGMA.update)(&mut p, Some("nan")).is_err());
     }
 }
 

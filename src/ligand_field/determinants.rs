@@ -50,7 +50,7 @@ pub fn ml(mask: u16) -> i64 {
 }
 
 /// Occupied spin-orbitals in ascending order.
-fn occupied(mask: u16) -> Vec<usize> {
+pub(super) fn occupied(mask: u16) -> Vec<usize> {
     (0..SPIN_ORBITALS)
         .filter(|&i| mask & (1 << i) != 0)
         .collect()
@@ -73,7 +73,7 @@ fn create(mask: u16, i: usize) -> Option<(u16, f64)> {
 }
 
 /// a†_p a_q |D⟩.
-fn hop(mask: u16, p: usize, q: usize) -> Option<(u16, f64)> {
+pub(super) fn hop(mask: u16, p: usize, q: usize) -> Option<(u16, f64)> {
     let (m1, s1) = annihilate(mask, q)?;
     let (m2, s2) = create(m1, p)?;
     Some((m2, s1 * s2))
@@ -261,7 +261,7 @@ impl Operator for OrbitRaise {
 }
 
 /// Y₂ₘ (up to a common factor) as the quadratic form rᵀQr: Q for m = −2…2.
-fn harmonic_forms() -> [Matrix3<Complex<f64>>; 5] {
+pub(super) fn harmonic_forms() -> [Matrix3<Complex<f64>>; 5] {
     let re = |x: f64| Complex::new(x, 0.0);
     let im = |x: f64| Complex::new(0.0, x);
     let z = re(0.0);
@@ -287,7 +287,7 @@ fn harmonic_forms() -> [Matrix3<Complex<f64>>; 5] {
 }
 
 /// The l = 2 rotation matrix D[m′][m] of the rotation R: (O_R Y₂ₘ)(r) = Y₂ₘ(R⁻¹r).
-fn d_rotation(rotation: &Matrix3<f64>) -> [[Complex<f64>; 5]; 5] {
+pub(super) fn d_rotation(rotation: &Matrix3<f64>) -> [[Complex<f64>; 5]; 5] {
     let forms = harmonic_forms();
     let r = rotation.map(|x| Complex::new(x, 0.0));
     let mut d = [[Complex::new(0.0, 0.0); 5]; 5];

@@ -1,4 +1,5 @@
-//! Exact dⁿ energy levels (n = 1…9) in octahedral and tetrahedral fields.
+//! Exact dⁿ energy levels (n = 1…9) in octahedral and tetrahedral fields, and
+//! (in [`site`] with [`field`]) in fields of any symmetry with spin–orbit coupling.
 //!
 //! The full configuration-interaction problem of dⁿ in a cubic field with
 //! Racah B, C interelectronic repulsion (Tanabe & Sugano, J. Phys. Soc. Jpn. 9
@@ -14,11 +15,15 @@
 mod angular;
 mod determinants;
 mod diagram;
+pub mod field;
 mod model;
+mod site;
 
 pub use angular::{ck, wigner_3j};
 pub use diagram::{diagram, spin_change, Curve, Diagram};
+pub use field::{FieldMatrix, Ligand};
 pub use model::{Block, Irrep, Model};
+pub use site::{full_site_matrix, site_levels, Site, SiteLevel, MAX_ABS_ZETA};
 
 use serde::{Deserialize, Serialize};
 use std::fmt;
@@ -106,6 +111,14 @@ pub enum LfError {
     Parameter { name: &'static str, value: f64 },
     /// |Dq| is beyond the accepted range.
     FieldTooLarge(f64),
+    /// A parameter's size is beyond its accepted range.
+    OutOfRange {
+        name: &'static str,
+        value: f64,
+        limit: f64,
+    },
+    /// The ligand list cannot define a field (none, on the metal, or two in one direction).
+    Ligands(String),
     /// The geometry name is not octahedral/oh or tetrahedral/td.
     UnknownGeometry(String),
     /// A diagram request (range, points or C/B) is out of range.
@@ -127,6 +140,11 @@ impl fmt::Display for LfError {
                 f,
                 "Dq = {dq} cm⁻¹ is outside the accepted range of ±{MAX_ABS_DQ} cm⁻¹"
             ),
+            LfError::OutOfRange { name, value, limit } => write!(
+                f,
+                "{name} = {value} cm⁻¹ is outside the accepted range of ±{limit} cm⁻¹"
+            ),
+            LfError::Ligands(message) => write!(f, "the ligands cannot be used: {message}"),
             LfError::UnknownGeometry(g) => write!(
                 f,
                 "unknown geometry '{g}': use octahedral (oh) or tetrahedral (td)"

@@ -12,18 +12,20 @@
 //! rows (Tanabe & Sugano, J. Phys. Soc. Jpn. 9 (1954) 753; Griffith, *The Theory
 //! of Transition-Metal Ions*, 1961).
 //!
-//! Labels: the parent free-ion term follows a level to Dq → 0 (levels of one
-//! (S, Γ) block never cross, so the k-th level at Dq connects with the k-th at a
-//! tiny Dq of the same sign) and takes the L with the largest weight there. The
-//! strong-field configuration comes from the eigenspaces of V itself, since the
-//! number of e_g electrons is (V/Dq + 4n)/10 in Oh and the number of t2
-//! electrons (V/Dq_t + 6n)/10 in Td.
+//! Labels: each block is stored in the eigenbasis of V, so the strong-field
+//! configuration of a level is read from its squared components (the number of
+//! e_g electrons is (V/Dq + 4n)/10 in Oh, of t2 electrons (V/Dq_t + 6n)/10 in
+//! Td). The parent free-ion term follows a level to Dq → 0: levels of one (S, Γ)
+//! block never cross, so the k-th level connects with the k-th free-ion level of
+//! the block, and those are the eigenvalues of B·K_B + C·K_C on the block's L²
+//! eigenspaces (precomputed, a few 1- to 3-row solves per evaluation).
 
 use super::determinants::{
     cubic_field, fourfold_class_sum, matrix, ml, two_ms, Basis, Coulomb, OrbitRaise, SpinRaise,
 };
 use super::{Geometry, Level, Params};
 use nalgebra::DMatrix;
+use std::sync::Mutex;
 
 /// A cubic irreducible representation (O or Td).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -74,6 +76,9 @@ impl Irrep {
 }
 
 /// One (S, Γ) block: the projected operators and the subspaces used for labels.
+///
+/// The block's basis is the eigenbasis of V, so V is diagonal and the weight of a
+/// strong-field configuration in a state is a sum of squared components.
 #[derive(Debug)]
 pub struct Block {
     pub multiplicity: u8,
@@ -81,10 +86,27 @@ pub struct Block {
     pub v: DMatrix<f64>,
     pub kb: DMatrix<f64>,
     pub kc: DMatrix<f64>,
-    /// Orthonormal bases of the L² eigenspaces, with the term letter.
-    terms: Vec<(char, DMatrix<f64>)>,
-    /// Orthonormal bases of the V eigenspaces, with the configuration name.
-    configurations: Vec<(String, DMatrix<f64>)>,
+    /// Each free-ion L of the block: its letter and K_B, K_C restricted to it
+    /// (both commute with L², so the free-ion levels of the block are their eigenvalues).
+    terms: Vec<TermSpace>,
+    /// Strong-field configuration names, and the index of each row's name.
+    configurations: Vec<String>,
+    configuration_of_row: Vec<usize>,
+    /// The names of the last parent sequence asked for (they change only when
+    /// C/B reorders the free-ion terms of the block).
+    names_cache: Mutex<Option<NamesCache>>,
+}
+
+type NamesCache = (Vec<char>, Vec<(String, String, String)>);
+
+/// K_B and K_C of one block restricted to one L² eigenspace.
+#[derive(Debug)]
+struct TermSpace {
+    letter: char,
+    kb: DMatrix<f64>,
+    kc: DMatrix<f64>,
+    /// The eigenspace's orthonormal basis in block coordinates.
+    basis: DMatrix<f64>,
 }
 
 impl Block {
@@ -118,6 +140,26 @@ impl Block {
         (irrep, label, typeset)
     }
 
+    /// The names of every level of the block (see [`Block::names`]), cached.
+    pub fn all_names(&self, geometry: Geometry, parents: &[char]) -> Vec<(String, String, String)> {
+        let make = || {
+            (0..parents.len())
+                .map(|k| self.names(geometry, parents, k))
+                .collect()
+        };
+        let Ok(mut cache) = self.names_cache.lock() else {
+            return make();
+        };
+        match cache.as_ref() {
+            Some((key, names)) if key == parents => names.clone(),
+            _ => {
+                let names: Vec<_> = make();
+                *cache = Some((parents.to_vec(), names.clone()));
+                names
+            }
+        }
+    }
+
     /// Number of levels (rows) of the block.
     pub fn size(&self) -> usize {
         self.v.nrows()
@@ -140,6 +182,9 @@ pub struct BlockState {
 
 /// Eigenvalues ascending with matching eigenvector columns.
 pub fn eigen_sorted(m: &DMatrix<f64>) -> (Vec<f64>, DMatrix<f64>) {
+    if m.nrows() == 1 {
+        return (vec![m[(0, 0)]], DMatrix::from_element(1, 1, 1.0));
+    }
     let eig = m.clone().symmetric_eigen();
     let mut order: Vec<usize> = (0..eig.eigenvalues.len()).collect();
     order.sort_by(|&a, &b| eig.eigenvalues[a].total_cmp(&eig.eigenvalues[b]));
@@ -269,22 +314,48 @@ impl Model {
                     if u.ncols() == 0 {
                         continue;
                     }
+                    // Rotate to the eigenbasis of V (configurations become rows).
+                    let (v_values, v_vectors) = eigen_sorted(&(u.transpose() * &v * &u));
+                    let u = u * v_vectors;
                     let project = |m: &DMatrix<f64>| u.transpose() * m * &u;
-                    let block_v = project(&v);
+                    let block_kb = project(&kb);
+                    let block_kc = project(&kc);
                     let terms = eigenspaces(&project(&l_squared), |l2| {
                         let l = (((1.0 + 4.0 * l2.max(0.0)).sqrt() - 1.0) / 2.0).round() as usize;
                         TERM_LETTERS.get(l).map_or('?', |&c| char::from(c))
-                    });
-                    let configurations =
-                        eigenspaces(&block_v, |e| configuration_name(geometry, n, e));
+                    })
+                    .into_iter()
+                    .map(|(letter, basis)| TermSpace {
+                        letter,
+                        kb: basis.transpose() * &block_kb * &basis,
+                        kc: basis.transpose() * &block_kc * &basis,
+                        basis,
+                    })
+                    .collect();
+                    let mut configurations: Vec<String> = Vec::new();
+                    let configuration_of_row = v_values
+                        .iter()
+                        .map(|&e| {
+                            let name = configuration_name(geometry, n, e);
+                            match configurations.iter().position(|c| *c == name) {
+                                Some(k) => k,
+                                None => {
+                                    configurations.push(name);
+                                    configurations.len() - 1
+                                }
+                            }
+                        })
+                        .collect();
                     blocks.push(Block {
                         multiplicity: (two_s + 1) as u8,
                         irrep,
-                        kb: project(&kb),
-                        kc: project(&kc),
-                        v: block_v,
+                        v: DMatrix::from_diagonal(&nalgebra::DVector::from_vec(v_values)),
+                        kb: block_kb,
+                        kc: block_kc,
                         terms,
                         configurations,
+                        configuration_of_row,
+                        names_cache: Mutex::new(None),
                     });
                 }
             }
@@ -301,8 +372,7 @@ impl Model {
         self.blocks
             .iter()
             .map(|block| {
-                let h = &block.v * p.dq + &block.kb * p.b + &block.kc * p.c;
-                let (values, vectors) = eigen_sorted(&h);
+                let (values, vectors) = eigen_sorted(&block.hamiltonian(p));
                 values
                     .iter()
                     .enumerate()
@@ -320,92 +390,135 @@ impl Model {
         self.blocks
             .iter()
             .map(|block| {
-                // One allocation: H = Dq·V + B·K_B + C·K_C element by element.
-                let h = DMatrix::from_fn(block.v.nrows(), block.v.ncols(), |i, j| {
-                    block.v[(i, j)] * p.dq + block.kb[(i, j)] * p.b + block.kc[(i, j)] * p.c
-                });
-                let mut e: Vec<f64> = h.symmetric_eigenvalues().iter().copied().collect();
+                if block.size() == 1 {
+                    return vec![block.hamiltonian(p)[(0, 0)]];
+                }
+                let mut e: Vec<f64> = block
+                    .hamiltonian(p)
+                    .symmetric_eigenvalues()
+                    .iter()
+                    .copied()
+                    .collect();
                 e.sort_by(f64::total_cmp);
                 e
             })
             .collect()
     }
 
-    /// Parent-term letters of the levels of each block, in eigen-order: each
-    /// level is followed to a tiny Dq of the same sign at the same B and C.
+    /// Parent-term letters of the levels of each block, in eigen-order (see [`Block::parents`]).
     pub fn parents(&self, p: &Params) -> Vec<Vec<char>> {
-        let scale = p.b.abs().max(p.c.abs()).max(1.0);
-        let direction = if p.dq < 0.0 { -1.0 } else { 1.0 };
-        let weak = Params {
-            dq: direction * 1e-4 * scale,
-            b: p.b,
-            c: p.c,
-        };
-        self.block_states(&weak)
-            .iter()
-            .zip(&self.blocks)
-            .map(|(states, block)| {
-                states
-                    .iter()
-                    .map(|s| {
-                        largest_weight(&block.terms, &s.vector).map_or('?', |(letter, _)| *letter)
-                    })
-                    .collect()
-            })
-            .collect()
+        self.blocks.iter().map(|block| block.parents(p)).collect()
     }
 
     /// All levels, lowest first, energies and derivatives relative to the ground level.
     pub fn evaluate(&self, p: &Params) -> Vec<Level> {
-        let states = self.block_states(p);
-        let parents = self.parents(p);
         let mut raw = Vec::new();
-        for ((block, block_states), block_parents) in self.blocks.iter().zip(&states).zip(&parents)
-        {
-            for (k, (state, &parent)) in block_states.iter().zip(block_parents).enumerate() {
-                let x = &state.vector;
-                let expect = |m: &DMatrix<f64>| (x.transpose() * m * x)[(0, 0)];
-                let (configuration, weight) = largest_weight(&block.configurations, x)
-                    .map_or((String::new(), 0.0), |(c, w)| (c.clone(), w));
-                let (irrep, label, typeset) = block.names(self.geometry, block_parents, k);
+        for block in &self.blocks {
+            let parents = block.parents(p);
+            let (values, vectors) = eigen_sorted(&block.hamiltonian(p));
+            let mut shares = vec![0.0; block.configurations.len()];
+            let mut names = block.all_names(self.geometry, &parents).into_iter();
+            for (k, (x, &energy)) in vectors.column_iter().zip(&values).enumerate() {
+                shares.iter_mut().for_each(|w| *w = 0.0);
+                let mut d_dq = 0.0;
+                for (i, &xi) in x.iter().enumerate() {
+                    shares[block.configuration_of_row[i]] += xi * xi;
+                    d_dq += block.v[(i, i)] * xi * xi;
+                }
+                let (best, weight) = shares
+                    .iter()
+                    .enumerate()
+                    .max_by(|a, b| a.1.total_cmp(b.1))
+                    .map_or((0, 0.0), |(i, &w)| (i, w));
+                let (irrep, label, typeset) = names.next().unwrap_or_default();
                 raw.push(Level {
-                    energy: state.energy,
+                    energy,
                     multiplicity: block.multiplicity,
                     label,
                     typeset,
                     irrep,
                     degeneracy: usize::from(block.multiplicity) * block.irrep.dimension(),
-                    parent: parent.to_string(),
-                    configuration,
+                    parent: parents.get(k).copied().unwrap_or('?').to_string(),
+                    configuration: block.configurations.get(best).cloned().unwrap_or_default(),
                     weight,
-                    d_dq: expect(&block.v),
-                    d_b: expect(&block.kb),
-                    d_c: expect(&block.kc),
+                    d_dq,
+                    d_b: quadratic_form(&block.kb, x.as_slice()),
+                    d_c: quadratic_form(&block.kc, x.as_slice()),
                 });
             }
         }
         raw.sort_by(|a, b| a.energy.total_cmp(&b.energy));
-        if let Some(ground) = raw.first().cloned() {
+        if let Some(g) = raw.first().map(|l| [l.energy, l.d_dq, l.d_b, l.d_c]) {
             for level in &mut raw {
-                level.energy -= ground.energy;
-                level.d_dq -= ground.d_dq;
-                level.d_b -= ground.d_b;
-                level.d_c -= ground.d_c;
+                level.energy -= g[0];
+                level.d_dq -= g[1];
+                level.d_b -= g[2];
+                level.d_c -= g[3];
             }
         }
         raw
     }
 }
 
-/// The labelled subspace carrying the largest share of `x`, and that share.
-fn largest_weight<'a, K>(
-    spaces: &'a [(K, DMatrix<f64>)],
-    x: &nalgebra::DVector<f64>,
-) -> Option<(&'a K, f64)> {
-    spaces
-        .iter()
-        .map(|(k, basis)| (k, (basis.transpose() * x).norm_squared()))
-        .max_by(|a, b| a.1.total_cmp(&b.1))
+impl Block {
+    /// H = Dq·V + B·K_B + C·K_C of this block.
+    fn hamiltonian(&self, p: &Params) -> DMatrix<f64> {
+        DMatrix::from_fn(self.v.nrows(), self.v.ncols(), |i, j| {
+            self.v[(i, j)] * p.dq + self.kb[(i, j)] * p.b + self.kc[(i, j)] * p.c
+        })
+    }
+
+    /// Parent-term letters of this block's levels in eigen-order. Levels of one
+    /// (S, Γ) block never cross, so the k-th level connects with the k-th free-ion
+    /// level of the block: the eigenvalues of B·K_B + C·K_C on each L² eigenspace,
+    /// sorted. When two different terms of the block coincide at this (B, C), the
+    /// order is decided by following the levels to a tiny Dq of the same sign.
+    pub fn parents(&self, p: &Params) -> Vec<char> {
+        let mut free: Vec<(f64, char)> = Vec::with_capacity(self.size());
+        for term in &self.terms {
+            if term.kb.nrows() == 1 {
+                free.push((term.kb[(0, 0)] * p.b + term.kc[(0, 0)] * p.c, term.letter));
+                continue;
+            }
+            let h = DMatrix::from_fn(term.kb.nrows(), term.kb.ncols(), |i, j| {
+                term.kb[(i, j)] * p.b + term.kc[(i, j)] * p.c
+            });
+            free.extend(h.symmetric_eigenvalues().iter().map(|&e| (e, term.letter)));
+        }
+        free.sort_by(|a, b| a.0.total_cmp(&b.0));
+        let scale = p.b.abs().max(p.c.abs()).max(1.0);
+        let tied = free
+            .windows(2)
+            .any(|w| w[0].1 != w[1].1 && w[1].0 - w[0].0 < 1e-7 * scale);
+        if !tied {
+            return free.into_iter().map(|(_, letter)| letter).collect();
+        }
+        let direction = if p.dq < 0.0 { -1.0 } else { 1.0 };
+        let weak = Params {
+            dq: direction * 1e-4 * scale,
+            b: p.b,
+            c: p.c,
+        };
+        let (_, vectors) = eigen_sorted(&self.hamiltonian(&weak));
+        vectors
+            .column_iter()
+            .map(|x| {
+                self.terms
+                    .iter()
+                    .map(|t| (t.letter, (t.basis.transpose() * x).norm_squared()))
+                    .max_by(|a, b| a.1.total_cmp(&b.1))
+                    .map_or('?', |(letter, _)| letter)
+            })
+            .collect()
+    }
+}
+
+/// xᵀ M x.
+fn quadratic_form(m: &DMatrix<f64>, x: &[f64]) -> f64 {
+    m.column_iter()
+        .zip(x)
+        .map(|(column, &xj)| xj * column.iter().zip(x).map(|(a, &xi)| a * xi).sum::<f64>())
+        .sum()
 }
 
 fn superscript(n: u8) -> String {
