@@ -1,5 +1,5 @@
 //! Exact dⁿ energy levels (n = 1…9) in octahedral and tetrahedral fields, and
-//! (in [`site`] with [`field`]) in fields of any symmetry with spin–orbit coupling.
+//! (in `site` with [`field`]) in fields of any symmetry with spin–orbit coupling.
 //!
 //! The full configuration-interaction problem of dⁿ in a cubic field with
 //! Racah B, C interelectronic repulsion (Tanabe & Sugano, J. Phys. Soc. Jpn. 9
