@@ -1,5 +1,5 @@
 # The two commands a newcomer needs: `make run` and `make test`.
-.PHONY: run test build web bench survey check-rust browser-tests reference-checks clean
+.PHONY: run test build web bench survey check browser-tests reference-checks clean
 
 run: web
 	node scripts/serve.mjs 8080
@@ -11,14 +11,19 @@ web:
 test:
 	@start=$$(date +%s); \
 	bash scripts/ensure-tools.sh web browser python && \
-	$(MAKE) --no-print-directory check-rust reference-checks web browser-tests && \
+	$(MAKE) --no-print-directory check reference-checks web browser-tests && \
 	echo "make test: all steps passed in $$(( $$(date +%s) - start )) s"
 
-check-rust:
-	cargo fmt --check
-	cargo clippy --quiet --all-targets -- -D warnings
-	cargo clippy --quiet --lib --target wasm32-unknown-unknown -- -D warnings
-	cargo test --quiet
+# The gates every commit keeps: formatting, clippy (native and wasm32, with the lint set in Cargo.toml's
+# [lints]), rustdoc without warnings, and every test including the doc examples. Offline and without sudo.
+check:
+	@start=$$(date +%s); \
+	cargo fmt --check && \
+	cargo clippy --quiet --all-targets -- -D warnings && \
+	cargo clippy --quiet --lib --target wasm32-unknown-unknown -- -D warnings && \
+	RUSTDOCFLAGS="-D warnings" cargo doc --quiet --no-deps && \
+	cargo test --quiet && \
+	echo "make check: all gates passed in $$(( $$(date +%s) - start )) s"
 
 reference-checks:
 	bash scripts/reference-checks.sh

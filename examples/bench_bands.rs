@@ -10,7 +10,7 @@ fn main() {
         .lines()
         .filter(|l| !l.starts_with('#'))
         .filter_map(|l| {
-            let mut w = l.split_whitespace().map(|v| v.parse::<f64>());
+            let mut w = l.split_whitespace().map(str::parse::<f64>);
             Some((w.next()?.ok()?, w.next()?.ok()?))
         })
         .unzip();
@@ -50,7 +50,7 @@ fn main() {
         times.push(t.elapsed().as_secs_f64() * 1e6);
         last = Some(fit);
     }
-    times.sort_by(|a, b| a.total_cmp(b));
+    times.sort_by(f64::total_cmp);
     let median = times[runs / 2];
     if let Some(Ok(fit)) = last {
         eprintln!(

@@ -4,6 +4,7 @@
 //! Run: `cargo run --release --example bench_import`.
 
 use ddlens::spectrum::{import, ImportOptions};
+use std::fmt::Write as _;
 use std::time::Instant;
 
 const POINTS: usize = 100_000;
@@ -34,12 +35,10 @@ fn sqz(v: i64) -> String {
 fn dif(d: i64) -> String {
     let digits = d.unsigned_abs().to_string();
     let first = digits.as_bytes()[0] - b'0';
-    let lead = if d == 0 {
-        '%'
-    } else if d < 0 {
-        (b'j' + first - 1) as char
-    } else {
-        (b'J' + first - 1) as char
+    let lead = match d.cmp(&0) {
+        std::cmp::Ordering::Equal => '%',
+        std::cmp::Ordering::Less => (b'j' + first - 1) as char,
+        std::cmp::Ordering::Greater => (b'J' + first - 1) as char,
     };
     format!("{lead}{}", &digits[1..])
 }
@@ -57,7 +56,7 @@ fn jcamp() -> Vec<u8> {
         let end = (i + 10).min(POINTS);
         // Each line after the first starts with the previous line's last value (the checkpoint).
         let start = if i == 0 { 0 } else { i - 1 };
-        out.push_str(&format!("{}{}", (30_000 + start) * 100, sqz(y[start])));
+        let _ = write!(out, "{}{}", (30_000 + start) * 100, sqz(y[start]));
         for k in start + 1..end {
             out.push_str(&dif(y[k] - y[k - 1]));
         }
@@ -72,11 +71,12 @@ fn csv() -> Vec<u8> {
     let y = ordinates();
     let mut out = String::from("Wavelength (nm),Abs\n");
     for (i, v) in y.iter().enumerate() {
-        out.push_str(&format!(
-            "{:.4},{:.6}\n",
+        let _ = writeln!(
+            out,
+            "{:.4},{:.6}",
             300.0 + i as f64 * 0.01,
             *v as f64 * 1e-4
-        ));
+        );
     }
     out.into_bytes()
 }

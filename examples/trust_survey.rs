@@ -14,10 +14,10 @@
 #[path = "../tests/support/hard_cases.rs"]
 mod hard_cases;
 
+use ddlens::analysis::{self, BandSetup, Document, LigandFieldOptions, Source};
 use ddlens::estimate::Estimate;
 use ddlens::lf_fit::{self, FitOutcome, FitRequest, ObservedBand, Solution};
 use ddlens::ligand_field::Geometry;
-use ddlens::analysis::{self, BandSetup, Document, LigandFieldOptions, Source};
 use hard_cases::Case;
 
 /// Noise realisations in the coverage run.
@@ -235,20 +235,17 @@ fn coverage() {
             });
             centres.add(near.copied(), t.centre);
         }
-        match &run.fit {
-            Ok(o) => {
-                let s = &o.best;
-                delta.add(Some(s.derived.delta), 10.0 * p.dq);
-                b.add(s.parameters.b, p.b);
-                deltas.push(s.derived.delta.value);
-                sigmas.extend(s.derived.delta.sigma);
-                misassigned += usize::from(states(s) != truth_states.join(" "));
-            }
-            Err(_) => {
-                failed += 1;
-                delta.add(None, 10.0 * p.dq);
-                b.add(None, p.b);
-            }
+        if let Ok(o) = &run.fit {
+            let s = &o.best;
+            delta.add(Some(s.derived.delta), 10.0 * p.dq);
+            b.add(s.parameters.b, p.b);
+            deltas.push(s.derived.delta.value);
+            sigmas.extend(s.derived.delta.sigma);
+            misassigned += usize::from(states(s) != truth_states.join(" "));
+        } else {
+            failed += 1;
+            delta.add(None, 10.0 * p.dq);
+            b.add(None, p.b);
         }
     }
     println!("## Coverage: {DRAWS} noise draws of a three-band Ni²⁺ Oh spectrum\n");

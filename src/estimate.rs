@@ -122,7 +122,7 @@ mod tests {
         assert_eq!(Estimate::exact(0.00056).grouped(), "0.00056");
         assert_eq!(Estimate::exact(999.0).grouped(), "999");
         assert_eq!(
-            Estimate::new(123456.0, 1500.0).grouped(),
+            Estimate::new(123_456.0, 1500.0).grouped(),
             "123\u{2009}456 ± 1\u{2009}500"
         );
         assert_eq!(Estimate::exact(f64::NAN).grouped(), "—");

@@ -6,5 +6,5 @@
 mod cli;
 
 fn main() {
-    std::process::exit(cli::main(std::env::args().skip(1).collect()));
+    std::process::exit(cli::main(&std::env::args().skip(1).collect::<Vec<_>>()));
 }

@@ -218,6 +218,8 @@ mod tests {
     }
 
     #[test]
+    // Exact comparison meant: small integer ratios are exact in f64.
+    #[allow(clippy::float_cmp)]
     fn the_reduced_chi2_scale_divides_by_the_degrees_of_freedom() {
         let scale = |points| ErrorScale::ReducedChi2 {
             chi2: 12.0,

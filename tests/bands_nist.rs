@@ -35,7 +35,9 @@ impl D {
     }
     fn chain(self, v: f64, dv: f64) -> D {
         let mut d = self.d;
-        d.iter_mut().for_each(|x| *x *= dv);
+        for x in &mut d {
+            *x *= dv;
+        }
         D { v, d }
     }
     fn exp(self) -> D {
@@ -233,10 +235,11 @@ fn parse(name: &str, text: &str) -> Option<Problem> {
 /// Number of significant digits to which `a` agrees with the certified `c`
 /// (the log relative error measure of McCullough 1999, used with StRD).
 fn digits(a: f64, c: f64) -> f64 {
-    if a == c {
+    let relative_error = (a - c).abs() / c.abs();
+    if relative_error == 0.0 {
         return 15.0;
     }
-    -((a - c).abs() / c.abs()).log10()
+    -relative_error.log10()
 }
 
 const PROBLEMS: [&str; 18] = [

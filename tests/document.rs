@@ -27,7 +27,7 @@ fn project_of(doc: Document) -> Value {
         saved: None,
         samples: vec![doc],
         active: Some(0),
-        page: Default::default(),
+        page: ddlens::analysis::PageState::default(),
     })
     .unwrap()
 }
@@ -246,6 +246,8 @@ fn damaged_project_text_never_panics() {
 }
 
 #[test]
+// Exact comparison meant: a locked centre is returned exactly as given.
+#[allow(clippy::float_cmp)]
 fn a_document_with_a_band_model_is_fitted_from_that_model() {
     let auto = analyze(&demo_doc(), &mut |_| true).unwrap();
     let fit = &auto.results.as_ref().unwrap().bands.fit;

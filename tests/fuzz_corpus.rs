@@ -17,7 +17,7 @@ impl Rng {
         self.0 ^= self.0 >> 12;
         self.0 ^= self.0 << 25;
         self.0 ^= self.0 >> 27;
-        self.0.wrapping_mul(0x2545F4914F6CDD1D)
+        self.0.wrapping_mul(0x2545_F491_4F6C_DD1D)
     }
     fn below(&mut self, n: usize) -> usize {
         (self.next() % n.max(1) as u64) as usize
@@ -37,7 +37,7 @@ const HOSTILE: &[&str] = &[
 
 fn mutate(rng: &mut Rng, seed: &[u8]) -> Vec<u8> {
     let mut bytes = seed.to_vec();
-    for _ in 0..1 + rng.below(8) {
+    for _ in 0..=rng.below(8) {
         let at = rng.below(bytes.len() + 1);
         match rng.below(5) {
             0 if !bytes.is_empty() => {
@@ -210,7 +210,7 @@ fn random_arrays_at_the_import_limits_preprocess_without_a_panic_or_a_non_finite
                 quantity: ddlens::spectrum::Quantity::Absorbance,
                 x_unit_read: ddlens::spectrum::XUnit::Wavenumber,
                 saturated: vec![],
-                metadata: Default::default(),
+                metadata: std::collections::BTreeMap::new(),
                 warnings: vec![],
             };
             preprocess_all(&mut rng, &s, &format!("array round {round}"));

@@ -35,7 +35,7 @@ fn cary_pairs_descending_with_trailing_commas_and_metadata_after() {
     assert_eq!(b.wavenumber.len(), 26, "the second pair is shorter");
     assert_eq!(b.quantity, Quantity::Absorbance, "%T was converted");
     // The fixture's %T column is 100·10^(−A) with A = 0.5·exp(…): peak A = 0.5 at 17 400 cm⁻¹ (≈575 nm).
-    let max = b.values.iter().cloned().fold(f64::MIN, f64::max);
+    let max = b.values.iter().copied().fold(f64::MIN, f64::max);
     assert!(max > 0.45 && max <= 0.5 + 1e-5, "{max}");
 }
 
@@ -123,6 +123,10 @@ fn percent_transmittance_becomes_absorbance() {
         (600.0, 1.0),
         (500.0, 0.0),
     ];
+    assert_eq!(
+        (s.wavenumber.len(), s.values.len()),
+        (expected.len(), expected.len())
+    );
     for ((w, v), (nm, a)) in s.wavenumber.iter().zip(&s.values).zip(expected) {
         assert!(close(*w, 1e7 / nm, 1e-12));
         assert!((v - a).abs() < 1e-12);
@@ -174,7 +178,7 @@ fn unnamed_x_axis_is_guessed_with_a_warning_and_can_be_overridden() {
     };
     let s = &import(bytes, "e.txt", &opts).unwrap().spectra[0];
     // 1 eV = 8065.544 cm⁻¹ (CODATA 2018).
-    assert!((s.wavenumber[0] - 1.5 * 8065.543937).abs() < 1e-3);
+    assert!((s.wavenumber[0] - 1.5 * 8_065.543_937).abs() < 1e-3);
 }
 
 #[test]

@@ -7,6 +7,7 @@ use ddlens::spectrum::{
 };
 mod common;
 use common::within;
+use std::fmt::Write as _;
 
 fn import_text(text: &str, opts: &ImportOptions) -> Result<ImportReport, ImportError> {
     import(text.as_bytes(), "hostile.csv", opts)
@@ -28,7 +29,7 @@ fn warnings_of(report: &ImportReport) -> String {
     report.spectra[0]
         .warnings
         .iter()
-        .map(|w| w.to_string())
+        .map(ToString::to_string)
         .collect::<Vec<_>>()
         .join("\n")
 }
@@ -117,7 +118,7 @@ fn a_small_jcamp_expanding_to_five_million_points_is_refused() {
         "##TITLE=dup\n##XUNITS=1/CM\n##YUNITS=ABSORBANCE\n##FIRSTX=1\n##LASTX=5000000\n##NPOINTS=5000000\n##XYDATA=(X++(Y..Y))\n",
     );
     for k in 0..5 {
-        text.push_str(&format!("{} A1s99998\n", 1 + k * 999_998));
+        let _ = writeln!(text, "{} A1s99998", 1 + k * 999_998);
     }
     text.push_str("##END=\n");
     assert!(text.len() < 300, "{} bytes", text.len());

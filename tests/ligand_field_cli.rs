@@ -1,6 +1,7 @@
 //! `ddlens levels` with low-symmetry fields, the angular overlap model and
 //! spin–orbit coupling, as the held-out checks call it.
 
+use std::fmt::Write as _;
 use std::process::Command;
 
 fn levels(args: &[&str]) -> (bool, serde_json::Value, String) {
@@ -109,7 +110,7 @@ fn a_ligand_file_gives_the_aom_octahedron() {
         [0, 0, 2],
         [0, 0, -2],
     ] {
-        text.push_str(&format!("{x},{y},{z},7000,900\n"));
+        let _ = writeln!(text, "{x},{y},{z},7000,900");
     }
     std::fs::write(&path, text).unwrap();
     let file = path.to_string_lossy().to_string();

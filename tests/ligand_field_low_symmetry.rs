@@ -353,8 +353,8 @@ fn the_blocked_engine_agrees_with_a_dense_diagonalisation_for_every_dn() {
     let mut seed: u64 = 0x5eed;
     let mut next = move || {
         seed = seed
-            .wrapping_mul(6364136223846793005)
-            .wrapping_add(1442695040888963407);
+            .wrapping_mul(6_364_136_223_846_793_005)
+            .wrapping_add(1_442_695_040_888_963_407);
         (seed >> 11) as f64 / (1u64 << 53) as f64
     };
     for n in 1..=9u8 {

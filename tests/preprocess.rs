@@ -26,7 +26,7 @@ fn noise(n: usize, mut state: u64) -> Vec<f64> {
             state ^= state >> 12;
             state ^= state << 25;
             state ^= state >> 27;
-            (state.wrapping_mul(0x2545F4914F6CDD1D) >> 11) as f64 / (1u64 << 53) as f64 - 0.5
+            (state.wrapping_mul(0x2545_F491_4F6C_DD1D) >> 11) as f64 / (1u64 << 53) as f64 - 0.5
         })
         .collect()
 }
@@ -53,6 +53,7 @@ fn banded_whittaker_solve_equals_a_dense_solve() {
     // A straight line has zero second differences, so it passes unchanged for any λ.
     let line: Vec<f64> = (0..n).map(|i| 0.3 + 0.01 * i as f64).collect();
     let smooth = whittaker_smooth(&line, &vec![1.0; n], 1e8).unwrap();
+    assert_eq!(smooth.len(), line.len());
     assert!(line.iter().zip(&smooth).all(|(a, b)| (a - b).abs() < 1e-6));
 }
 
@@ -78,6 +79,7 @@ fn asls_and_arpls_recover_a_linear_baseline_under_a_band() {
         BaselineMethod::Arpls { lambda: 1e7 },
     ] {
         let z = baseline(&x, &y, &method).unwrap();
+        assert_eq!(z.len(), base.len());
         let worst = z
             .iter()
             .zip(&base)
@@ -99,6 +101,7 @@ fn rubber_band_of_a_line_plus_a_positive_band_is_the_line() {
         .map(|(v, l)| l + gaussian(*v, 25_000.0, 4000.0, 1.0))
         .collect();
     let z = baseline(&x, &y, &BaselineMethod::RubberBand).unwrap();
+    assert_eq!(z.len(), line.len());
     assert!(z.iter().zip(&line).all(|(a, b)| (a - b).abs() < 1e-9));
 }
 
@@ -112,6 +115,7 @@ fn polynomial_on_band_free_regions_is_exact_for_a_quadratic() {
         .collect();
     let regions = vec![[10_000.0, 18_000.0], [32_000.0, 40_000.0]];
     let z = baseline(&x, &y, &BaselineMethod::Polynomial { order: 2, regions }).unwrap();
+    assert_eq!(z.len(), x.len());
     // Least squares reproduces a polynomial of the fitted order; the band contributes < 1e-9 there.
     assert!(x.iter().zip(&z).all(|(&v, b)| (quad(v) - b).abs() < 1e-6));
 }
@@ -127,6 +131,7 @@ fn scattering_curve_is_recovered_with_fixed_and_free_exponent() {
         .collect();
     for exponent in [Some(4.0), None] {
         let z = baseline(&x, &y, &BaselineMethod::Scattering { exponent }).unwrap();
+        assert_eq!(z.len(), scatter.len());
         let worst = z
             .iter()
             .zip(&scatter)
@@ -147,7 +152,7 @@ fn spectrum(x: Vec<f64>, y: Vec<f64>) -> Spectrum {
         quantity: Quantity::Absorbance,
         x_unit_read: XUnit::Nanometre,
         saturated: vec![[15_000.0, 16_000.0]],
-        metadata: Default::default(),
+        metadata: std::collections::BTreeMap::new(),
         warnings: vec![],
     }
 }
@@ -155,7 +160,10 @@ fn spectrum(x: Vec<f64>, y: Vec<f64>) -> Spectrum {
 #[test]
 fn crop_resample_and_weights() {
     // Points even in wavelength (400–800 nm) are uneven in wavenumber.
-    let x: Vec<f64> = (0..=400).rev().map(|i| 1e7 / (400.0 + i as f64)).collect();
+    let x: Vec<f64> = (0..=400)
+        .rev()
+        .map(|i| 1e7 / (400.0 + f64::from(i)))
+        .collect();
     let y: Vec<f64> = x.iter().map(|v| 1.0 + 1e-4 * v).collect();
     let s = spectrum(x.clone(), y);
     let c = crop(&s, 15_500.0, 20_000.0);
@@ -172,6 +180,7 @@ fn crop_resample_and_weights() {
         .windows(2)
         .all(|w| ((w[1] - w[0]) - step).abs() < 1e-9));
     // Linear interpolation reproduces a linear function exactly.
+    assert_eq!(r.values.len(), r.wavenumber.len());
     assert!(r
         .wavenumber
         .iter()

@@ -165,7 +165,7 @@ fn typed(mut value: Value, notices: &mut Vec<String>) -> Result<Project, Documen
                 return Err(DocumentError::field(format!("{at}.{key}"), "is missing"));
             }
         }
-        let mut take = |k: &str| d.get_mut(k).map(Value::take).unwrap_or(Value::Null);
+        let mut take = |k: &str| d.get_mut(k).map_or(Value::Null, Value::take);
         let (sample, steps, bands, lf, results, program, doc_notices) = (
             take("sample"),
             take("steps"),

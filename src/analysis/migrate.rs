@@ -98,8 +98,8 @@ fn sample(
         .filter(|t| !t.is_empty())
         .unwrap_or_else(|| "gaussian".into());
     let choices = s.get("lfChoices").cloned().unwrap_or(json!([]));
-    let ligand_field = match controls {
-        Some(c) => json!({
+    let ligand_field = if let Some(c) = controls {
+        json!({
             "ion": text(Some(c), "ion").filter(|t| !t.is_empty()),
             "geometry": text(Some(c), "geometry").unwrap_or_else(|| "octahedral".into()),
             "c_over_b": text(Some(c), "c_over_b").and_then(|t| t.trim().parse::<f64>().ok())
@@ -109,15 +109,14 @@ fn sample(
             "b0_source": text(Some(c), "b0").filter(|t| !t.is_empty()).unwrap_or_else(|| "common".into()),
             "ligand": text(Some(c), "ligand").filter(|t| !t.is_empty()),
             "choices": choices,
-        }),
-        None => {
-            if choices.as_array().is_some_and(|a| !a.is_empty()) {
-                notices.push(format!(
-                    "{at}: its band choices had no ligand-field settings and were left out"
-                ));
-            }
-            Value::Null
+        })
+    } else {
+        if choices.as_array().is_some_and(|a| !a.is_empty()) {
+            notices.push(format!(
+                "{at}: its band choices had no ligand-field settings and were left out"
+            ));
         }
+        Value::Null
     };
     Ok(json!({
         "sample": {
@@ -152,11 +151,7 @@ fn sample(
 /// order the page applied them.
 fn steps(p: &Value) -> Vec<Value> {
     let mut out = Vec::new();
-    if let Some([lo, hi]) = p
-        .get("crop")
-        .and_then(Value::as_array)
-        .map(|a| a.as_slice())
-    {
+    if let Some([lo, hi]) = p.get("crop").and_then(Value::as_array).map(Vec::as_slice) {
         out.push(json!({ "crop": { "low": lo, "high": hi } }));
     }
     if let Some(s) = p.get("smooth").filter(|s| !s.is_null()) {

@@ -267,7 +267,9 @@ fn deconvolve_with(
             if specs.is_empty() {
                 return Err(AnalysisError::TooFewPoints(x.len()));
             }
-            specs.iter_mut().for_each(|b| b.shape = setup.shape);
+            for b in &mut specs {
+                b.shape = setup.shape;
+            }
             let model = BandModel {
                 bands: specs,
                 baseline,

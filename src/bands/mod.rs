@@ -3,7 +3,7 @@
 //! A spectrum y(ν̃) is modelled as a sum of bands ([`shapes`]) plus a
 //! baseline ([`BaselineModel`]) and fitted by the projected
 //! Levenberg–Marquardt solver in [`lm`], with ties and bounds compiled in
-//! [`model`]. [`guess`] makes starting values from a Savitzky–Golay second
+//! `model`. [`guess()`] makes starting values from a Savitzky–Golay second
 //! derivative; [`stats`] gives covariance and information criteria.
 //!
 //! This module holds the types and re-exports; the work lives in its
@@ -106,15 +106,15 @@ impl fmt::Display for BaselineModel {
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 #[serde(rename_all = "kebab-case", tag = "kind")]
 pub enum Tie {
-    /// fwhm[band] = fwhm[to].
+    /// `fwhm[band] = fwhm[to]`.
     EqualFwhm { band: usize, to: usize },
-    /// centre[band] = centre[to] + spacing.
+    /// `centre[band] = centre[to] + spacing`.
     Spacing {
         band: usize,
         to: usize,
         spacing: f64,
     },
-    /// height[band] = ratio · height[to].
+    /// `height[band] = ratio · height[to]`.
     HeightRatio { band: usize, to: usize, ratio: f64 },
 }
 

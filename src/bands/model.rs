@@ -144,7 +144,7 @@ impl LeastSquares for Compiled<'_> {
         let mut grad = vec![0.0; p.len()];
         let mut jac = jac;
         if let Some(j) = jac.as_deref_mut() {
-            j.iter_mut().for_each(|v| *v = 0.0);
+            j.fill(0.0);
         }
         for i in 0..m {
             let f = self.point(&p, self.x[i], &mut grad);
@@ -169,11 +169,11 @@ pub(crate) fn baseline_params(
     y: &[f64],
 ) -> Vec<(String, f64, f64, f64)> {
     let inf = f64::INFINITY;
-    let y_min = y.iter().cloned().fold(inf, f64::min);
-    let x_max = x.iter().cloned().fold(f64::NEG_INFINITY, f64::max);
-    let x_min = x.iter().cloned().fold(inf, f64::min);
+    let y_min = y.iter().copied().fold(inf, f64::min);
+    let x_max = x.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+    let x_min = x.iter().copied().fold(inf, f64::min);
     let span = (x_max - x_min).max(1.0);
-    let y_span = y.iter().cloned().fold(f64::NEG_INFINITY, f64::max) - y_min;
+    let y_span = y.iter().copied().fold(f64::NEG_INFINITY, f64::max) - y_min;
     let start = if y_min.is_finite() { y_min } else { 0.0 };
     match model {
         BaselineModel::None => vec![],

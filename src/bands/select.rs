@@ -22,7 +22,9 @@ pub fn select_band_count(
     let mut last_error = None;
     for n in 1..=max_n.max(1) {
         let mut bands = guess(x, y, Some(n));
-        bands.iter_mut().for_each(|b| b.shape = shape);
+        for b in &mut bands {
+            b.shape = shape;
+        }
         let model = BandModel {
             bands,
             baseline,

@@ -321,11 +321,11 @@ mod tests {
             let (c, w, h) = (20_000.0, 2_000.0, 1.3);
             let n = 400_000;
             let (lo, hi) = (c - 60.0 * w, c + 60.0 * w);
-            let dx = (hi - lo) / n as f64;
+            let dx = (hi - lo) / f64::from(n);
             let sum: f64 = (0..=n)
                 .map(|i| {
                     let weight = if i == 0 || i == n { 0.5 } else { 1.0 };
-                    weight * eval(shape, lo + i as f64 * dx, c, w, h, extra).value
+                    weight * eval(shape, lo + f64::from(i) * dx, c, w, h, extra).value
                 })
                 .sum::<f64>()
                 * dx;

@@ -88,7 +88,7 @@ fn save(doc: &Document, path: &str) -> Result<(), CliError> {
         saved: None,
         samples: vec![doc.clone()],
         active: Some(0),
-        page: Default::default(),
+        page: analysis::PageState::default(),
     };
     std::fs::write(path, project.to_json() + "\n")
         .map_err(|e| CliError::Failed(format!("cannot write '{}': {e}", super::args::shown(path))))
@@ -119,11 +119,12 @@ fn recompute(p: &flags::Parsed, path: &str) -> Result<String, CliError> {
     }
     let failed = docs
         .iter()
-        .filter_map(|d| d.results.as_ref()?.fit_error.clone())
-        .next()
+        .find_map(|d| d.results.as_ref()?.fit_error.clone())
         .filter(|_| docs.iter().any(|d| d.ligand_field.is_some()));
     let text = if p.json {
-        docs.iter_mut().for_each(|d| d.sample.data = None);
+        for d in &mut docs {
+            d.sample.data = None;
+        }
         json_text(&docs)?
     } else {
         let mut out = String::new();
@@ -179,7 +180,7 @@ fn report(doc: &Document) -> Result<String, CliError> {
         (Some(o), _) => super::fit::print_outcome(&mut out, o),
         (None, Some(e)) => {
             outln!(out, "no ligand-field fit: {e}");
-            return Err(CliError::FitFailed(out, e.to_string()));
+            return Err(CliError::FitFailed(out, e.clone()));
         }
         (None, None) => {}
     }

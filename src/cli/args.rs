@@ -105,6 +105,8 @@ mod tests {
     }
 
     #[test]
+    // Exact comparison meant: a parsed decimal literal is exact.
+    #[allow(clippy::float_cmp)]
     fn a_non_finite_number_is_refused_with_its_option_named() {
         let err = parse_number("--dq", "nan").unwrap_err().to_string();
         assert!(err.starts_with("--dq:"), "{err}");

@@ -89,9 +89,10 @@ pub fn run(words: &[String]) -> Result<String, CliError> {
         d.delta_over_b.len(),
         num(max)
     );
-    match d.spin_change {
-        Some(x) => outln!(out, "ground-state spin changes at Δ/B = {x:.2}"),
-        None => outln!(out, "no ground-state spin change up to Δ/B = 100"),
+    if let Some(x) = d.spin_change {
+        outln!(out, "ground-state spin changes at Δ/B = {x:.2}");
+    } else {
+        outln!(out, "no ground-state spin change up to Δ/B = 100");
     }
     Ok(out)
 }

@@ -55,11 +55,10 @@ fn print_solution(out: &mut String, s: &Solution) {
     outln!(out, "    B         {} cm⁻¹", opt(s.parameters.b));
     outln!(out, "    C         {} cm⁻¹", opt(s.parameters.c));
     outln!(out, "    C/B       {}", opt(d.c_over_b));
-    match (d.beta, d.b0, &d.b0_source) {
-        (Some(beta), Some(b0), Some(src)) => {
-            outln!(out, "    β         {beta}   (B₀ = {b0:.0} cm⁻¹, {src})")
-        }
-        _ => outln!(out, "    β         — (no free-ion B₀)"),
+    if let (Some(beta), Some(b0), Some(src)) = (d.beta, d.b0, &d.b0_source) {
+        outln!(out, "    β         {beta}   (B₀ = {b0:.0} cm⁻¹, {src})");
+    } else {
+        outln!(out, "    β         — (no free-ion B₀)");
     }
     outln!(out, "    Dq/B      {}", opt(d.dq_over_b));
     out!(out, "    ground    {}, {}", s.ground, s.spin.state);

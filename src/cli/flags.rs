@@ -23,6 +23,7 @@ use ddlens::lf_fit::ObservedBand;
 use ddlens::ligand_field::{parse_configuration, Geometry};
 use ddlens::preprocess::BaselineMethod;
 use ddlens::spectrum::{Quantity, XUnit};
+use std::fmt::Write as _;
 
 /// One option: its spelling, its value, its help and how it updates [`Parsed`].
 pub struct Flag {
@@ -107,6 +108,8 @@ impl Flag {
 }
 
 /// The typed flags of one command line (stage one's result).
+// One field per command-line switch: the bools are the switches themselves, not a hidden state machine.
+#[allow(clippy::struct_excessive_bools)]
 #[derive(Debug, Default)]
 pub struct Parsed {
     pub positionals: Vec<String>,
@@ -796,6 +799,8 @@ pub const RANGE: Flag = Flag::takes("--range", "LO:HI", "use only LO–HI cm⁻�
 mod range_tests {
     use super::*;
     #[test]
+    // Exact comparison meant: parsed decimal literals are exact.
+    #[allow(clippy::float_cmp)]
     fn a_range_needs_two_finite_ends_in_order() {
         assert_eq!(parse_range("8000:30000").unwrap(), [8000.0, 30000.0]);
         assert!(parse_range("30000:8000").is_err());
@@ -1094,9 +1099,9 @@ pub fn help(header: &str, flags: &[&Flag]) -> String {
         if let Some(v) = f.value {
             spelling = format!("{spelling} {v}");
         }
-        out.push_str(&format!("    {spelling:<22} {}\n", f.help));
+        let _ = writeln!(out, "    {spelling:<22} {}", f.help);
         for line in f.long.lines() {
-            out.push_str(&format!("    {:<22} {line}\n", ""));
+            let _ = writeln!(out, "    {:<22} {line}", "");
         }
     }
     out

@@ -66,7 +66,7 @@ pub fn run(words: &[String]) -> Result<String, CliError> {
         spectrum::import(&bytes, &file, &opts).map_err(|e| CliError::Failed(e.to_string()))?;
     let steps = super::cleaning_steps(&p);
     if !steps.is_empty() {
-        for s in report.spectra.iter_mut() {
+        for s in &mut report.spectra {
             let (mut clean, notes) = preprocess::apply_steps(s, &steps)
                 .map_err(|e| CliError::Failed(format!("{}: the cleaning failed: {e}", s.name)))?;
             clean.warnings.extend(notes);

@@ -67,9 +67,9 @@ pub(crate) use {out, outln};
 pub const MAX_INPUT_BYTES: u64 = 256 * 1024 * 1024;
 
 /// Runs the command line; returns the process exit code.
-pub fn main(argv: Vec<String>) -> i32 {
+pub fn main(argv: &[String]) -> i32 {
     let json = argv.iter().any(|w| w == "--json");
-    match run(&argv) {
+    match run(argv) {
         Ok(text) => write_stdout(&text),
         Err(CliError::FitFailed(text, reason)) => {
             let written = write_stdout(&text);

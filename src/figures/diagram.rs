@@ -10,8 +10,9 @@
 //! dashed vertical line; each curve is labelled at its right end unless the
 //! label would overlap the one below it.
 
-use super::{axis_range, pixel_scale, style as colours, FigureError};
+use super::{axis_range, pixel_scale, pixels, style as colours, FigureError};
 use crate::ligand_field::Diagram;
+use plotters::coord::types::RangedCoordf64;
 use plotters::coord::Shift;
 use plotters::prelude::*;
 use serde::{Deserialize, Serialize};
@@ -61,7 +62,7 @@ pub fn draw_diagram<DB: DrawingBackend>(
     style: &DiagramStyle,
 ) -> Result<DiagramFrame, FigureError> {
     let scale = pixel_scale(style.scale);
-    let px = |v: f64| (v * scale).round().max(1.0) as u32;
+    let px = |v: f64| pixels(v, scale);
     let x_max = diagram
         .delta_over_b
         .last()
@@ -97,27 +98,7 @@ pub fn draw_diagram<DB: DrawingBackend>(
         .label_style(font.clone())
         .axis_desc_style(font.clone())
         .draw()?;
-    let mut label_heights: Vec<(f64, &str, RGBColor)> = Vec::new();
-    for curve in &diagram.curves {
-        let colour = colours::multiplicity(curve.multiplicity);
-        let line = ShapeStyle::from(&colour).stroke_width(px(1.5));
-        let mut run: Vec<(f64, f64)> = Vec::new();
-        for (&x, &y) in diagram.delta_over_b.iter().zip(&curve.energy_over_b) {
-            if y <= y_max {
-                run.push((x, y));
-            } else if !run.is_empty() {
-                chart.draw_series(LineSeries::new(std::mem::take(&mut run), line))?;
-            }
-        }
-        if let Some(&(x, y)) = run.last() {
-            if x >= x_max * 0.999 {
-                label_heights.push((y, curve.typeset.as_str(), colour));
-            }
-        }
-        if run.len() > 1 {
-            chart.draw_series(LineSeries::new(run, line))?;
-        }
-    }
+    let label_heights = draw_curves(&mut chart, diagram, [x_max, y_max], scale)?;
     if let Some(change) = diagram.spin_change.filter(|&c| c <= x_max) {
         chart.draw_series(DashedLineSeries::new(
             [(change, 0.0), (change, y_max)],
@@ -142,21 +123,8 @@ pub fn draw_diagram<DB: DrawingBackend>(
         .filter(|p| p.iter().all(|v| v.is_finite()) && p[1] <= y_max);
     chart.draw_series(points.map(|p| Circle::new((p[0], p[1]), px(4.0), accent.filled())))?;
     if style.labels {
-        label_heights.sort_by(|a, b| a.0.total_cmp(&b.0));
         let min_gap = y_max * 14.0 * scale / f64::from(root.dim_in_pixel().1.max(1));
-        let mut last_written = f64::NEG_INFINITY;
-        for (y, text, colour) in label_heights {
-            if y - last_written < min_gap {
-                continue;
-            }
-            last_written = y;
-            let label_font = ("sans-serif", px(11.0)).into_font().color(&colour);
-            chart.draw_series(std::iter::once(Text::new(
-                text.to_string(),
-                (x_max * 1.01, y),
-                label_font,
-            )))?;
-        }
+        draw_labels(&mut chart, label_heights, x_max, min_gap, scale)?;
     }
     root.present()?;
     // The pixel ranges are half-open; plotters maps the axis ends onto the last pixel inside.
@@ -166,4 +134,66 @@ pub fn draw_diagram<DB: DrawingBackend>(
         x_range: [0.0, x_max],
         y_range: [0.0, y_max],
     })
+}
+
+type Chart<'a, DB> = ChartContext<'a, DB, Cartesian2d<RangedCoordf64, RangedCoordf64>>;
+
+/// Draws every curve up to the top of the plot (a curve leaving the top is cut
+/// there) and returns the (height, label, colour) of those reaching the right edge.
+fn draw_curves<'d, DB: DrawingBackend>(
+    chart: &mut Chart<DB>,
+    diagram: &'d Diagram,
+    [x_max, y_max]: [f64; 2],
+    scale: f64,
+) -> Result<Vec<(f64, &'d str, RGBColor)>, FigureError> {
+    let px = |v: f64| pixels(v, scale);
+    let mut label_heights = Vec::new();
+    for curve in &diagram.curves {
+        let colour = colours::multiplicity(curve.multiplicity);
+        let line = ShapeStyle::from(&colour).stroke_width(px(1.5));
+        let mut run: Vec<(f64, f64)> = Vec::new();
+        for (&x, &y) in diagram.delta_over_b.iter().zip(&curve.energy_over_b) {
+            if y <= y_max {
+                run.push((x, y));
+            } else if !run.is_empty() {
+                chart.draw_series(LineSeries::new(std::mem::take(&mut run), line))?;
+            }
+        }
+        if let Some(&(x, y)) = run.last() {
+            if x >= x_max * 0.999 {
+                label_heights.push((y, curve.typeset.as_str(), colour));
+            }
+        }
+        if run.len() > 1 {
+            chart.draw_series(LineSeries::new(run, line))?;
+        }
+    }
+    Ok(label_heights)
+}
+
+/// Writes the curve labels right of the plot, lowest first, skipping a label
+/// closer than `min_gap` (in E/B) to the last one written.
+fn draw_labels<DB: DrawingBackend>(
+    chart: &mut Chart<DB>,
+    mut label_heights: Vec<(f64, &str, RGBColor)>,
+    x_max: f64,
+    min_gap: f64,
+    scale: f64,
+) -> Result<(), FigureError> {
+    let px = |v: f64| pixels(v, scale);
+    label_heights.sort_by(|a, b| a.0.total_cmp(&b.0));
+    let mut last_written = f64::NEG_INFINITY;
+    for (y, text, colour) in label_heights {
+        if y - last_written < min_gap {
+            continue;
+        }
+        last_written = y;
+        let label_font = ("sans-serif", px(11.0)).into_font().color(&colour);
+        chart.draw_series(std::iter::once(Text::new(
+            text.to_string(),
+            (x_max * 1.01, y),
+            label_font,
+        )))?;
+    }
+    Ok(())
 }

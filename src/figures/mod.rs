@@ -91,6 +91,12 @@ pub(crate) fn pixel_scale(scale: f64) -> f64 {
     }
 }
 
+/// A length of `css` CSS pixels on a canvas `scale` times denser, in whole
+/// backend pixels and never less than one (`as` saturates a huge value).
+pub(crate) fn pixels(css: f64, scale: f64) -> u32 {
+    (css * scale).round().max(1.0) as u32
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -109,6 +115,8 @@ mod tests {
     }
 
     #[test]
+    // Exact comparison meant: ordering two ends returns them unchanged.
+    #[allow(clippy::float_cmp)]
     fn an_empty_range_is_widened_around_its_value() {
         let [lo, hi] = axis_range(2.0, 2.0, "y").unwrap();
         assert!(lo < 2.0 && hi > 2.0);

@@ -3,7 +3,7 @@
 //! nephelauxetic (β) order. Drawn on any plotters backend: a canvas in the
 //! browser, SVG for export. Every pixel size is multiplied by `scale`.
 
-use super::{axis_range, pixel_scale, style as palette, FigureError};
+use super::{axis_range, pixel_scale, pixels, style as palette, FigureError};
 use crate::estimate::Estimate;
 use plotters::coord::Shift;
 use plotters::prelude::*;
@@ -73,7 +73,7 @@ pub fn draw_series<DB: DrawingBackend>(
         return Err(FigureError::NothingToCompare);
     }
     let scale = pixel_scale(scale);
-    let px = |v: f64| (v * scale).round().max(1.0) as u32;
+    let px = |v: f64| pixels(v, scale);
     root.fill(&WHITE)?;
     let panels = root.split_evenly((2, 1));
     let n = points.len();

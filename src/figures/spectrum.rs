@@ -4,7 +4,7 @@
 //! flagged regions, vertical markers for predicted transitions, drag handles
 //! of edited bands and an optional residual strip under the plot.
 
-use super::{axis_range, style as palette, FigureError};
+use super::{axis_range, pixels, style as palette, FigureError};
 use plotters::coord::types::RangedCoordf64;
 use plotters::coord::Shift;
 use plotters::prelude::*;
@@ -179,17 +179,33 @@ pub fn nice_ticks(lo: f64, hi: f64, target: usize) -> Vec<f64> {
 /// Share of the figure's height given to the residual strip.
 const STRIP_SHARE: f64 = 0.24;
 
+/// The visible ranges of a chart and how data x maps onto its bottom axis.
+#[derive(Clone, Copy)]
+struct View {
+    /// Bottom-axis range (cm⁻¹ or nm).
+    bx: [f64; 2],
+    y: [f64; 2],
+    /// Data x (cm⁻¹) → bottom-axis value.
+    to_bottom: fn(f64) -> f64,
+    scale: f64,
+}
+
+impl View {
+    fn px(&self, css: f64) -> u32 {
+        pixels(css, self.scale)
+    }
+}
+
 /// Draws the figure on `root` and returns the pixel mapping of its plot area.
 pub fn draw<DB: DrawingBackend>(
     root: &DrawingArea<DB, Shift>,
     fig: &SpectrumFigure,
     scale: f64,
 ) -> Result<Frame, FigureError> {
-    let s = |v: f64| (v * scale).round().max(1.0) as u32;
+    let s = |v: f64| pixels(v, scale);
     root.fill(&WHITE)?;
     let x = fig.x_view()?;
     let y = fig.y_view(x)?;
-    let font = |size: f64| ink_font(size, scale);
 
     // The bottom axis shows wavenumber (energy grows to the right) or wavelength.
     let (bx, to_bottom): ([f64; 2], fn(f64) -> f64) = if fig.nm_bottom {
@@ -199,6 +215,12 @@ pub fn draw<DB: DrawingBackend>(
     } else {
         (x, |v| v)
     };
+    let view = View {
+        bx,
+        y,
+        to_bottom,
+        scale,
+    };
     let bottom_desc = if fig.nm_bottom {
         "wavelength / nm"
     } else {
@@ -207,7 +229,7 @@ pub fn draw<DB: DrawingBackend>(
     // With a residual strip the bottom axis moves under the strip.
     let strip = !fig.residuals.is_empty();
     let (main_area, strip_area) = if strip {
-        let h = root.dim_in_pixel().1 as f64;
+        let h = f64::from(root.dim_in_pixel().1);
         let (a, b) = root.split_vertically((h * (1.0 - STRIP_SHARE)).round() as u32);
         (a, Some(b))
     } else {
@@ -225,7 +247,31 @@ pub fn draw<DB: DrawingBackend>(
     let x_desc = if strip { "" } else { bottom_desc };
     draw_mesh(&mut chart, scale, x_desc, &fig.y_label, 6)?;
 
-    let clip = |v: f64| v.clamp(y[0], y[1]);
+    draw_spans(&mut chart, fig, view)?;
+    draw_lines(&mut chart, &fig.lines, view)?;
+    draw_markers(root, &mut chart, &fig.markers, view)?;
+    draw_handles(&mut chart, &fig.handles, view)?;
+    let area = draw_top_axis(root, &chart, fig.nm_bottom, view)?;
+    if let Some(strip_area) = strip_area {
+        draw_strip(&strip_area, fig, x, bottom_desc, view)?;
+    }
+    root.present()?;
+    Ok(Frame {
+        area,
+        x_range: bx,
+        y_range: y,
+        nm_bottom: fig.nm_bottom,
+    })
+}
+
+/// The shaded spans (flagged regions) and the translucent ±σ spans of the markers.
+fn draw_spans<DB: DrawingBackend>(
+    chart: &mut Chart<DB>,
+    fig: &SpectrumFigure,
+    View {
+        bx, y, to_bottom, ..
+    }: View,
+) -> Result<(), FigureError> {
     for span in &fig.shaded {
         let (a, b) = (to_bottom(span[0]), to_bottom(span[1]));
         let (a, b) = (a.min(b).max(bx[0]), a.max(b).min(bx[1]));
@@ -246,18 +292,30 @@ pub fn draw<DB: DrawingBackend>(
             )))?;
         }
     }
-    draw_lines(&mut chart, &fig.lines, bx, y, to_bottom, scale)?;
-    for m in &fig.markers {
+    Ok(())
+}
+
+/// The vertical markers inside the view, each with its label written upwards.
+fn draw_markers<DB: DrawingBackend>(
+    root: &DrawingArea<DB, Shift>,
+    chart: &mut Chart<DB>,
+    markers: &[Marker],
+    view: View,
+) -> Result<(), FigureError> {
+    let View {
+        bx, y, to_bottom, ..
+    } = view;
+    for m in markers {
         let xm = to_bottom(m.x);
         if xm < bx[0] || xm > bx[1] {
             continue;
         }
-        let style = palette::MARKER.stroke_width(s(1.5));
+        let style = palette::MARKER.stroke_width(view.px(1.5));
         if m.dashed {
             chart.draw_series(DashedLineSeries::new(
                 vec![(xm, y[0]), (xm, y[1])],
-                s(5.0),
-                s(4.0),
+                view.px(5.0),
+                view.px(4.0),
                 style,
             ))?;
         } else {
@@ -266,97 +324,125 @@ pub fn draw<DB: DrawingBackend>(
         let (px, py) = chart.backend_coord(&(xm, y[1]));
         root.draw(&Text::new(
             m.label.clone(),
-            (px + s(3.0) as i32, py + s(4.0) as i32),
-            font(11.0).transform(FontTransform::Rotate90),
+            (px + view.px(3.0) as i32, py + view.px(4.0) as i32),
+            ink_font(11.0, view.scale).transform(FontTransform::Rotate90),
         ))?;
     }
-    for h in &fig.handles {
+    Ok(())
+}
+
+/// The drag handles inside the view, clipped to its y range.
+fn draw_handles<DB: DrawingBackend>(
+    chart: &mut Chart<DB>,
+    handles: &[Handle],
+    view: View,
+) -> Result<(), FigureError> {
+    let View {
+        bx, y, to_bottom, ..
+    } = view;
+    for h in handles {
         let xh = to_bottom(h.x);
         if !(xh >= bx[0] && xh <= bx[1] && h.y.is_finite()) {
             continue;
         }
-        let at = (xh, clip(h.y));
+        let at = (xh, h.y.clamp(y[0], y[1]));
         chart.draw_series([
-            Circle::new(at, s(6.0), WHITE.filled()),
+            Circle::new(at, view.px(6.0), WHITE.filled()),
             Circle::new(
                 at,
-                s(5.0),
+                view.px(5.0),
                 if h.hollow {
-                    palette::INK.stroke_width(s(2.0))
+                    palette::INK.stroke_width(view.px(2.0))
                 } else {
                     palette::INK.filled()
                 },
             ),
         ])?;
     }
+    Ok(())
+}
 
-    // The top axis: the other unit, with its own (non-linear) ticks.
+/// The top axis, in the other unit with its own (non-linear) ticks, drawn by
+/// hand on `root`; returns the plot area in backend pixels (left, top, right, bottom).
+fn draw_top_axis<DB: DrawingBackend>(
+    root: &DrawingArea<DB, Shift>,
+    chart: &Chart<DB>,
+    nm_bottom: bool,
+    view: View,
+) -> Result<[f64; 4], FigureError> {
+    let View { bx, y, .. } = view;
     let (left, top) = chart.backend_coord(&(bx[0], y[1]));
     let (right, bottom) = chart.backend_coord(&(bx[1], y[0]));
     let (tlo, thi) = (1e7 / bx[1], 1e7 / bx[0]);
-    let top_desc = if fig.nm_bottom {
+    let top_desc = if nm_bottom {
         "wavenumber / cm⁻¹"
     } else {
         "wavelength / nm"
     };
-    let ink = palette::INK.stroke_width(s(1.0));
+    let ink = palette::INK.stroke_width(view.px(1.0));
     root.draw(&PathElement::new(vec![(left, top), (right, top)], ink))?;
     for t in nice_ticks(tlo, thi, 7) {
         let pos = 1e7 / t;
         let (px, _) = chart.backend_coord(&(pos, y[1]));
         root.draw(&PathElement::new(
-            vec![(px, top), (px, top - s(5.0) as i32)],
+            vec![(px, top), (px, top - view.px(5.0) as i32)],
             ink,
         ))?;
-        let style = font(12.0).pos(text_anchor::Pos::new(
+        let style = ink_font(12.0, view.scale).pos(text_anchor::Pos::new(
             text_anchor::HPos::Center,
             text_anchor::VPos::Bottom,
         ));
         root.draw(&Text::new(
             format!("{t:.0}"),
-            (px, top - s(7.0) as i32),
+            (px, top - view.px(7.0) as i32),
             style,
         ))?;
     }
-    let desc = font(13.0).pos(text_anchor::Pos::new(
+    let desc = ink_font(13.0, view.scale).pos(text_anchor::Pos::new(
         text_anchor::HPos::Right,
         text_anchor::VPos::Bottom,
     ));
-    root.draw(&Text::new(top_desc, (right, top - s(21.0) as i32), desc))?;
+    root.draw(&Text::new(
+        top_desc,
+        (right, top - view.px(21.0) as i32),
+        desc,
+    ))?;
+    Ok([left, top, right, bottom].map(f64::from))
+}
 
-    // The residual strip: same x axis, its own symmetric y range.
-    if let Some(area) = strip_area {
-        let mut worst = 0.0f64;
-        for l in &fig.residuals {
-            for (xv, yv) in l.x.iter().zip(&l.y) {
-                if *xv >= x[0] && *xv <= x[1] && yv.is_finite() {
-                    worst = worst.max(yv.abs());
-                }
+/// The residual strip: the same x axis as the plot above (data x range `x`),
+/// its own symmetric y range.
+fn draw_strip<DB: DrawingBackend>(
+    area: &DrawingArea<DB, Shift>,
+    fig: &SpectrumFigure,
+    x: [f64; 2],
+    bottom_desc: &str,
+    view: View,
+) -> Result<(), FigureError> {
+    let mut worst = 0.0f64;
+    for l in &fig.residuals {
+        for (xv, yv) in l.x.iter().zip(&l.y) {
+            if *xv >= x[0] && *xv <= x[1] && yv.is_finite() {
+                worst = worst.max(yv.abs());
             }
         }
-        let r = if worst > 0.0 { 1.1 * worst } else { 1.0 };
-        let [_, r] = axis_range(-r, r, "residual")?;
-        let mut strip = ChartBuilder::on(&area)
-            .margin(s(10.0))
-            .margin_right(s(18.0))
-            .margin_top(s(6.0))
-            .x_label_area_size(s(40.0))
-            .y_label_area_size(s(62.0))
-            .build_cartesian_2d(bx[0]..bx[1], -r..r)?;
-        draw_mesh(&mut strip, scale, bottom_desc, "residual", 3)?;
-        strip.draw_series(LineSeries::new(
-            [(bx[0], 0.0), (bx[1], 0.0)],
-            palette::INK.mix(0.6).stroke_width(s(1.0)),
-        ))?;
-        draw_lines(&mut strip, &fig.residuals, bx, [-r, r], to_bottom, scale)?;
     }
-    root.present()?;
-    Ok(Frame {
-        area: [left as f64, top as f64, right as f64, bottom as f64],
-        x_range: bx,
-        y_range: y,
-        nm_bottom: fig.nm_bottom,
-    })
+    let r = if worst > 0.0 { 1.1 * worst } else { 1.0 };
+    let [_, r] = axis_range(-r, r, "residual")?;
+    let bx = view.bx;
+    let mut strip = ChartBuilder::on(area)
+        .margin(view.px(10.0))
+        .margin_right(view.px(18.0))
+        .margin_top(view.px(6.0))
+        .x_label_area_size(view.px(40.0))
+        .y_label_area_size(view.px(62.0))
+        .build_cartesian_2d(bx[0]..bx[1], -r..r)?;
+    draw_mesh(&mut strip, view.scale, bottom_desc, "residual", 3)?;
+    strip.draw_series(LineSeries::new(
+        [(bx[0], 0.0), (bx[1], 0.0)],
+        palette::INK.mix(0.6).stroke_width(view.px(1.0)),
+    ))?;
+    draw_lines(&mut strip, &fig.residuals, View { y: [-r, r], ..view })
 }
 
 /// Text in the axis colour, `size` CSS pixels.
@@ -376,7 +462,7 @@ fn draw_mesh<DB: DrawingBackend>(
     y_desc: &str,
     y_labels: usize,
 ) -> Result<(), FigureError> {
-    let s = (scale.round().max(1.0)) as u32;
+    let s = pixels(1.0, scale);
     chart
         .configure_mesh()
         .light_line_style(palette::GRID.mix(0.0))
@@ -399,12 +485,12 @@ fn draw_mesh<DB: DrawingBackend>(
 fn draw_lines<DB: DrawingBackend>(
     chart: &mut Chart<DB>,
     lines: &[Line],
-    bx: [f64; 2],
-    y: [f64; 2],
-    to_bottom: fn(f64) -> f64,
-    scale: f64,
+    view: View,
 ) -> Result<(), FigureError> {
-    let s = |v: f64| (v * scale).round().max(1.0) as u32;
+    let View {
+        bx, y, to_bottom, ..
+    } = view;
+    let s = |v: f64| view.px(v);
     let clip = |v: f64| v.clamp(y[0], y[1]);
     let (px_lo, _) = chart.backend_coord(&(bx[0], y[1]));
     let (px_hi, _) = chart.backend_coord(&(bx[1], y[1]));
@@ -446,11 +532,9 @@ pub fn clip_to_x_range(mut pts: Vec<(f64, f64)>, range: [f64; 2]) -> Vec<(f64, f
     pts.sort_by(|a, b| a.0.total_cmp(&b.0));
     let [lo, hi] = range;
     let at = |a: (f64, f64), b: (f64, f64), x: f64| {
-        let t = if b.0 == a.0 {
-            0.0
-        } else {
-            (x - a.0) / (b.0 - a.0)
-        };
+        // Two points at one x: the cut takes the first one's y.
+        let dx = b.0 - a.0;
+        let t = if dx == 0.0 { 0.0 } else { (x - a.0) / dx };
         (x, a.1 + t * (b.1 - a.1))
     };
     let mut out = Vec::with_capacity(pts.len());
@@ -486,7 +570,7 @@ pub fn decimate(pts: &[(f64, f64)], range: [f64; 2], columns: usize) -> Vec<(f64
     let mut out = Vec::with_capacity(4 * columns + 4);
     let mut start = 0;
     while start < pts.len() {
-        let c = pts.get(start).map(|p| column(p.0)).unwrap_or(0);
+        let c = pts.get(start).map_or(0, |p| column(p.0));
         let mut end = start;
         while end < pts.len() && pts.get(end).map(|p| column(p.0)) == Some(c) {
             end += 1;
@@ -562,7 +646,7 @@ mod tests {
         // 10 000 points of a fast oscillation over 100 columns: every column's
         // extreme values survive and at most 4 points per column are kept.
         let pts: Vec<(f64, f64)> = (0..10_000)
-            .map(|i| (i as f64, ((i * 7919) % 1000) as f64))
+            .map(|i| (f64::from(i), f64::from((i * 7919) % 1000)))
             .collect();
         let out = decimate(&pts, [0.0, 10_000.0], 100);
         assert!(out.len() <= 400, "{} points kept", out.len());

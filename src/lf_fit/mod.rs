@@ -4,7 +4,7 @@
 //! this module finds which transitions they are and the Dq, B (and C) that
 //! reproduce them, with honest uncertainties:
 //!
-//! 1. **Candidates** ([`search`]): the transitions from the ground level —
+//! 1. **Candidates** (`search`): the transitions from the ground level —
 //!    for d⁴–d⁷ from both the high-spin and the low-spin ground level — to
 //!    every level of the same spin (spin-allowed) and, on request, of spin
 //!    differing by one (spin-forbidden, ΔS = ±1).
@@ -13,7 +13,7 @@
 //!    over Δ/B at fixed C/B where B enters linearly (energies scale with B at
 //!    fixed Δ/B and C/B), so the best B at each Δ/B is a weighted linear
 //!    least-squares solution.
-//! 3. **Fit** ([`refine`]): the best-scoring assignments are refined by
+//! 3. **Fit** (`refine`): the best-scoring assignments are refined by
 //!    Levenberg–Marquardt on (Dq, B) with C = (C/B)·B, or on (Dq, B, C) when at
 //!    least three bands are assigned and C is freed, using the engine's
 //!    Hellmann–Feynman derivatives. The covariance is (JᵀJ)⁻¹ of the weighted
@@ -410,6 +410,31 @@ pub fn names_state(n: u8, geometry: Geometry, name: &str) -> bool {
 }
 
 /// Finds the assignment and fits Dq, B (and C) to the observed bands.
+///
+/// The two lowest spin-allowed bands of octahedral d³, computed by the exact
+/// engine at Dq = 1 750, B = 700 cm⁻¹ and C/B = 4.5, give those parameters
+/// back, assigned to ⁴T₂g and ⁴T₁g(F):
+///
+/// ```
+/// use ddlens::lf_fit::{fit, FitRequest, ObservedBand};
+/// use ddlens::ligand_field::{model, Geometry, Params};
+///
+/// let levels = model(3, Geometry::Octahedral)?.levels(&Params { dq: 1_750.0, b: 700.0, c: 3_150.0 })?;
+/// let at = |label: &str| levels.iter().find(|l| l.label == label).unwrap().energy;
+/// let request = FitRequest {
+///     n: 3,
+///     geometry: Geometry::Octahedral,
+///     c_over_b: Some(4.5),
+///     bands: vec![ObservedBand::at(at("4T2g")), ObservedBand::at(at("4T1g(F)"))],
+///     ..FitRequest::default()
+/// };
+/// let best = fit(&request).unwrap().best;
+/// assert!((best.parameters.dq.value - 1_750.0).abs() < 1e-3);
+/// assert!((best.parameters.b.unwrap().value - 700.0).abs() < 1e-3);
+/// let labels: Vec<&str> = best.assignment.iter().map(|a| a.state.as_str()).collect();
+/// assert_eq!(labels, ["4T2g", "4T1g(F)"]);
+/// # Ok::<(), ddlens::ligand_field::LfError>(())
+/// ```
 pub fn fit(req: &FitRequest) -> Result<FitOutcome, LfFitError> {
     let problem = check(req)?;
     let mut solutions = if let Some(single) = refine::single_state(&problem)? {

@@ -40,7 +40,7 @@ impl Free {
         ["Dq", "B", "C"]
             .iter()
             .take(self.count())
-            .map(|s| s.to_string())
+            .map(|s| (*s).to_string())
             .collect()
     }
 }
@@ -156,7 +156,7 @@ const THETA_FLOOR: f64 = 1e-6;
 
 /// Refines θ from `theta` by the crate's one least-squares solver, kept inside
 /// θ > 0 by its projected bounds; None when the start cannot be evaluated.
-fn solve(p: &Problem, t: &Tuple, free: Free, theta: Vec<f64>) -> Option<(Vec<f64>, Eval)> {
+fn solve(p: &Problem, t: &Tuple, free: Free, theta: &[f64]) -> Option<(Vec<f64>, Eval)> {
     let problem = AssignmentProblem {
         problem: p,
         tuple: t,
@@ -169,7 +169,7 @@ fn solve(p: &Problem, t: &Tuple, free: Free, theta: Vec<f64>) -> Option<(Vec<f64
         upper: Vec::new(),
         ..LmOptions::default()
     };
-    let report = solver::solve(&problem, &theta, &options, &mut |_| true).ok()?;
+    let report = solver::solve(&problem, theta, &options, &mut |_| true).ok()?;
     let ev = evaluate(p, t, free, &report.x)?;
     Some((report.x, ev))
 }
@@ -186,7 +186,7 @@ pub(crate) fn fit_assignment(p: &Problem, t: &Tuple) -> Result<Solution, LfFitEr
             b_matters: false,
         }
     } else if k == 1 {
-        let b = p.b0.as_ref().map(|(b0, _)| 0.8 * b0).unwrap_or(800.0);
+        let b = p.b0.as_ref().map_or(800.0, |(b0, _)| 0.8 * b0);
         let probe = evaluate(p, t, Free::DqB, &[dq_start.max(1.0), b]);
         let b_matters = probe.is_some_and(|e| e.jacobian[(0, 1)].abs() > 1e-9);
         if b_matters {
@@ -216,12 +216,12 @@ pub(crate) fn fit_assignment(p: &Problem, t: &Tuple) -> Result<Solution, LfFitEr
         Free::DqB => vec![dq_start, b_start],
         Free::DqBC => vec![dq_start, b_start, p.gamma * b_start],
     };
-    let (theta, ev) = solve(p, t, free, theta0).ok_or_else(|| {
+    let (theta, ev) = solve(p, t, free, &theta0).ok_or_else(|| {
         LfFitError::NoFit(
             "the fit left the physical range (a parameter became zero or negative)".into(),
         )
     })?;
-    let mut solution = build(p, free, &theta, &ev, warnings)?;
+    let mut solution = build(p, free, &theta, &ev, warnings);
     if free == Free::DqB && k >= 3 {
         if let Some((lo, hi)) = pairwise_b(p, t, &theta) {
             if hi - lo > 0.1 * 0.5 * (hi + lo) {
@@ -251,7 +251,7 @@ fn pairwise_b(p: &Problem, t: &Tuple, theta: &[f64]) -> Option<(f64, f64)> {
                 finals: vec![t.finals[i].clone(), t.finals[j].clone()],
                 ..t.clone()
             };
-            if let Some((th, _)) = solve(&sub, &st, Free::DqB, theta.to_vec()) {
+            if let Some((th, _)) = solve(&sub, &st, Free::DqB, theta) {
                 bs.push(th[1]);
             }
         }
@@ -284,13 +284,7 @@ fn propagate(cov: Option<&Covariance>, value: f64, grad: &[f64]) -> Estimate {
     }
 }
 
-fn build(
-    p: &Problem,
-    free: Free,
-    theta: &[f64],
-    ev: &Eval,
-    mut warnings: Vec<String>,
-) -> Result<Solution, LfFitError> {
+fn build(p: &Problem, free: Free, theta: &[f64], ev: &Eval, mut warnings: Vec<String>) -> Solution {
     let k = p.bands.len();
     let np = free.count();
     let dof = k as i64 - np as i64;
@@ -313,7 +307,7 @@ fn build(
     let skipped = skipped_lower(p, ev, &assignment);
     let spin = spin_state(p, &ev.levels, pr, derived.delta_over_b.map(|e| e.value));
     let notes = notes(p, pr, free, &derived);
-    Ok(Solution {
+    Solution {
         parameters,
         derived,
         ground: start.label.clone(),
@@ -330,7 +324,7 @@ fn build(
         warnings,
         notes,
         score: chi2 + 4.0 * skipped as f64,
-    })
+    }
 }
 
 /// Dq, B, C with their σ, and the derived Δ, β, Dq/B, Δ/B and C/B.
@@ -715,7 +709,7 @@ pub(crate) fn rank(solutions: &mut [Solution]) {
             .cmp(&!b.plausible)
             .then(a.score.total_cmp(&b.score))
     });
-    let best = solutions.first().map(|s| s.chi2).unwrap_or(0.0);
+    let best = solutions.first().map_or(0.0, |s| s.chi2);
     for s in solutions.iter_mut() {
         s.delta_chi2 = s.chi2 - best;
     }

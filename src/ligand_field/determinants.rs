@@ -299,7 +299,7 @@ pub(super) fn d_rotation(rotation: &Matrix3<f64>) -> [[Complex<f64>; 5]; 5] {
                 .zip(rotated.iter())
                 .map(|(a, b)| a.conj() * b)
                 .sum();
-            let norm: f64 = qp.iter().map(|a| a.norm_sqr()).sum();
+            let norm: f64 = qp.iter().map(nalgebra::Complex::norm_sqr).sum();
             d[mp][m] = overlap / norm;
         }
     }

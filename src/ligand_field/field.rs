@@ -1,6 +1,6 @@
 //! One-electron ligand fields of any symmetry: a Hermitian 5×5 matrix on the
 //! complex d orbitals |m⟩ (Condon–Shortley phases, the basis of
-//! [`super::determinants`]).
+//! `determinants`).
 //!
 //! Sources of the field:
 //! - cubic Dq: the octahedral operator of the method notes (sign reversed for a

@@ -1,5 +1,5 @@
 //! Exact dⁿ energy levels (n = 1…9) in octahedral and tetrahedral fields, and
-//! (in [`site`] with [`field`]) in fields of any symmetry with spin–orbit coupling.
+//! (in `site` with [`field`]) in fields of any symmetry with spin–orbit coupling.
 //!
 //! The full configuration-interaction problem of dⁿ in a cubic field with
 //! Racah B, C interelectronic repulsion (Tanabe & Sugano, J. Phys. Soc. Jpn. 9
@@ -206,6 +206,23 @@ pub fn model(n: u8, geometry: Geometry) -> Result<&'static Model, LfError> {
 
 impl Model {
     /// All levels, lowest first, with energies above the ground level.
+    ///
+    /// For octahedral d³ the first spin-allowed band, ⁴A₂g → ⁴T₂g, lies at
+    /// exactly 10Dq whatever B and C are (Tanabe & Sugano, J. Phys. Soc. Jpn.
+    /// 9, 753 (1954)), and the ground level is the quartet ⁴A₂g:
+    ///
+    /// ```
+    /// use ddlens::ligand_field::{model, Geometry, Params};
+    ///
+    /// let d3 = model(3, Geometry::Octahedral)?;
+    /// for (b, c) in [(700.0, 3_150.0), (500.0, 2_000.0)] {
+    ///     let levels = d3.levels(&Params { dq: 1_750.0, b, c })?;
+    ///     assert_eq!((levels[0].label.as_str(), levels[0].energy), ("4A2g", 0.0));
+    ///     let t2 = levels.iter().find(|l| l.label == "4T2g").unwrap();
+    ///     assert!((t2.energy - 17_500.0).abs() < 1e-6, "{}", t2.energy);
+    /// }
+    /// # Ok::<(), ddlens::ligand_field::LfError>(())
+    /// ```
     pub fn levels(&self, p: &Params) -> Result<Vec<Level>, LfError> {
         check_params(p)?;
         Ok(self.evaluate(p))

@@ -241,14 +241,48 @@ fn configuration_name(geometry: Geometry, n: u8, eigenvalue: f64) -> String {
     };
     match geometry {
         Geometry::Octahedral => {
-            let eg = ((eigenvalue + 4.0 * n as f64) / 10.0).round() as i64;
+            let eg = ((eigenvalue + 4.0 * f64::from(n)) / 10.0).round() as i64;
             format!("{}{}", part("t2g", n_i - eg), part("eg", eg))
         }
         Geometry::Tetrahedral => {
-            let t2 = ((eigenvalue + 6.0 * n as f64) / 10.0).round() as i64;
+            let t2 = ((eigenvalue + 6.0 * f64::from(n)) / 10.0).round() as i64;
             format!("{}{}", part("e", n_i - t2), part("t2", t2))
         }
     }
+}
+
+/// L² = L₋L₊ + L_z² + L_z on the determinants `dets` (one M_S), with L₊ mapping
+/// them into `same_ms` (every determinant of that M_S).
+fn orbit_squared(basis: &Basis, same_ms: &[usize], dets: &[usize]) -> DMatrix<f64> {
+    let l_plus = matrix(basis, same_ms, dets, &OrbitRaise);
+    let lz = DMatrix::from_fn(dets.len(), dets.len(), |r, c| {
+        if r == c {
+            let m = ml(basis.masks[dets[r]]) as f64;
+            m * m + m
+        } else {
+            0.0
+        }
+    });
+    lz + l_plus.transpose() * &l_plus
+}
+
+/// The distinct strong-field configurations of the rows (eigenvalues of V)
+/// and, for each row, the index of its configuration.
+fn configuration_rows(geometry: Geometry, n: u8, v_values: &[f64]) -> (Vec<String>, Vec<usize>) {
+    let mut configurations: Vec<String> = Vec::new();
+    let of_row = v_values
+        .iter()
+        .map(|&e| {
+            let name = configuration_name(geometry, n, e);
+            if let Some(k) = configurations.iter().position(|c| *c == name) {
+                k
+            } else {
+                configurations.push(name);
+                configurations.len() - 1
+            }
+        })
+        .collect();
+    (configurations, of_row)
 }
 
 impl Model {
@@ -294,16 +328,7 @@ impl Model {
                 let v = matrix(&basis, &dets, &dets, &field);
                 let kb = matrix(&basis, &dets, &dets, &racah_b);
                 let kc = matrix(&basis, &dets, &dets, &racah_c);
-                let l_plus = matrix(&basis, &same_ms, &dets, &OrbitRaise);
-                let lz = DMatrix::from_fn(dets.len(), dets.len(), |r, c| {
-                    if r == c {
-                        let m = ml(basis.masks[dets[r]]) as f64;
-                        m * m + m
-                    } else {
-                        0.0
-                    }
-                });
-                let l_squared = lz + l_plus.transpose() * &l_plus;
+                let l_squared = orbit_squared(&basis, &same_ms, &dets);
                 for irrep in Irrep::ALL {
                     let (value, row) = irrep.class_sum_and_row();
                     if row != q {
@@ -332,20 +357,8 @@ impl Model {
                         basis,
                     })
                     .collect();
-                    let mut configurations: Vec<String> = Vec::new();
-                    let configuration_of_row = v_values
-                        .iter()
-                        .map(|&e| {
-                            let name = configuration_name(geometry, n, e);
-                            match configurations.iter().position(|c| *c == name) {
-                                Some(k) => k,
-                                None => {
-                                    configurations.push(name);
-                                    configurations.len() - 1
-                                }
-                            }
-                        })
-                        .collect();
+                    let (configurations, configuration_of_row) =
+                        configuration_rows(geometry, n, &v_values);
                     blocks.push(Block {
                         multiplicity: (two_s + 1) as u8,
                         irrep,
@@ -419,7 +432,7 @@ impl Model {
             let mut shares = vec![0.0; block.configurations.len()];
             let mut names = block.all_names(self.geometry, &parents).into_iter();
             for (k, (x, &energy)) in vectors.column_iter().zip(&values).enumerate() {
-                shares.iter_mut().for_each(|w| *w = 0.0);
+                shares.fill(0.0);
                 let mut d_dq = 0.0;
                 for (i, &xi) in x.iter().enumerate() {
                     shares[block.configuration_of_row[i]] += xi * xi;

@@ -70,6 +70,30 @@ pub enum BaselineMethod {
 }
 
 /// The baseline under `y` at every `x` (x ascending).
+///
+/// A straight-line baseline under a Gaussian band, fitted through band-free
+/// regions only, comes back as that line:
+///
+/// ```
+/// use ddlens::preprocess::{baseline, BaselineMethod};
+///
+/// let x: Vec<f64> = (0..=200).map(|i| 10_000.0 + 100.0 * f64::from(i)).collect();
+/// let line = |v: f64| 0.05 + 2e-6 * v;
+/// let y: Vec<f64> = x
+///     .iter()
+///     .map(|&v| line(v) + (-((v - 20_000.0) / 1_500.0).powi(2)).exp())
+///     .collect();
+/// let method = BaselineMethod::Polynomial {
+///     order: 1,
+///     regions: vec![[10_000.0, 12_000.0], [28_000.0, 30_000.0]],
+/// };
+/// let b = baseline(&x, &y, &method)?;
+/// assert_eq!(b.len(), x.len());
+/// for (v, bv) in x.iter().zip(&b) {
+///     assert!((bv - line(*v)).abs() < 1e-9);
+/// }
+/// # Ok::<(), ddlens::preprocess::PreprocessError>(())
+/// ```
 pub fn baseline(
     x: &[f64],
     y: &[f64],

@@ -32,6 +32,23 @@ pub fn savgol_coeffs(
 }
 
 /// Smooths (`deriv` = 0) or differentiates `y` with a Savitzky–Golay filter.
+///
+/// A filter of polynomial order p passes every polynomial of degree ≤ p
+/// unchanged, and its first derivative is exact for them (Savitzky & Golay,
+/// Anal. Chem. 36, 1627 (1964)):
+///
+/// ```
+/// use ddlens::preprocess::savgol;
+///
+/// let y: Vec<f64> = (0..50).map(|i| 3.0 + 0.5 * f64::from(i) - 0.02 * f64::from(i).powi(2)).collect();
+/// let smooth = savgol(&y, 11, 2, 0)?;
+/// let slope = savgol(&y, 11, 2, 1)?; // per point index
+/// for i in 0..50 {
+///     assert!((smooth[i] - y[i]).abs() < 1e-9);
+///     assert!((slope[i] - (0.5 - 0.04 * i as f64)).abs() < 1e-9);
+/// }
+/// # Ok::<(), ddlens::preprocess::PreprocessError>(())
+/// ```
 pub fn savgol(
     y: &[f64],
     window: usize,
@@ -166,7 +183,7 @@ mod tests {
         // A least-squares polynomial fit reproduces any polynomial of degree ≤ order exactly.
         let y: Vec<f64> = (0..30)
             .map(|i| {
-                let x = i as f64;
+                let x = f64::from(i);
                 0.5 - 0.2 * x + 0.03 * x * x - 0.001 * x * x * x
             })
             .collect();

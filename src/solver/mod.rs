@@ -259,13 +259,12 @@ fn damped_step(
     if !system_finite(&mat, &rhs) {
         return None;
     }
-    let solution = match mat.clone().cholesky() {
-        Some(ch) => ch.solve(&rhs),
-        None => {
-            let svd = mat.try_svd(true, true, f64::EPSILON, SVD_MAX_ITERATIONS)?;
-            let tol = f64::EPSILON * k as f64 * svd.singular_values.max();
-            svd.solve(&rhs, tol).unwrap_or_else(|_| DVector::zeros(k))
-        }
+    let solution = if let Some(ch) = mat.clone().cholesky() {
+        ch.solve(&rhs)
+    } else {
+        let svd = mat.try_svd(true, true, f64::EPSILON, SVD_MAX_ITERATIONS)?;
+        let tol = f64::EPSILON * k as f64 * svd.singular_values.max();
+        svd.solve(&rhs, tol).unwrap_or_else(|_| DVector::zeros(k))
     };
     for (p, &i) in idx.iter().enumerate() {
         step[i] = if solution[p].is_finite() {
@@ -615,7 +614,7 @@ fn start_inside(x: f64, lo: f64, hi: f64) -> f64 {
     } else {
         1e-10 * x.abs().max(1.0)
     };
-    if lo == hi {
+    if width == 0.0 {
         lo
     } else if x <= lo {
         (lo + nudge).min(hi)
@@ -627,6 +626,8 @@ fn start_inside(x: f64, lo: f64, hi: f64) -> f64 {
 }
 
 #[cfg(test)]
+// The expected values below are exact in binary floating point by construction.
+#[allow(clippy::float_cmp)]
 mod tests {
     use super::*;
     use std::time::{Duration, Instant};

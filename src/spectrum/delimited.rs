@@ -174,27 +174,15 @@ fn stem(file_name: &str) -> String {
     }
 }
 
-/// Reads a delimited table into raw spectra.
-pub fn read(text: &str, file_name: &str) -> Result<RawReport, ImportError> {
-    let lines: Vec<(usize, &str)> = super::text::numbered_lines(text).collect();
-    let (delimiter, decimal_comma) = sniff(&lines);
-    let kinds: Vec<Kind> = lines
-        .iter()
-        .map(|(_, l)| classify(l, delimiter, decimal_comma))
-        .collect();
-
-    let runs = data_runs(&kinds);
-    let Some(&(start, end)) = runs
-        .iter()
-        .filter(|(s, e)| e - s >= 2)
-        .max_by_key(|(s, e)| (e - s, std::cmp::Reverse(*s)))
-    else {
-        return Err(ImportError::NoData);
-    };
-    check_text_inside_data(&lines, &kinds, &runs, start, end, delimiter)?;
-
+/// Warnings for the runs of numbers outside the table read (the run starting
+/// at `start`): a lone row, or a second table.
+fn stray_row_warnings(
+    lines: &[(usize, &str)],
+    runs: &[(usize, usize)],
+    start: usize,
+) -> Vec<Warning> {
     let mut warnings = Vec::new();
-    for &(s, e) in &runs {
+    for &(s, e) in runs {
         if s != start && e - s == 1 {
             // A lone row of numbers outside the table is never dropped silently.
             warnings.push(Warning::new(
@@ -216,6 +204,29 @@ pub fn read(text: &str, file_name: &str) -> Result<RawReport, ImportError> {
             ));
         }
     }
+    warnings
+}
+
+/// Reads a delimited table into raw spectra.
+pub fn read(text: &str, file_name: &str) -> Result<RawReport, ImportError> {
+    let lines: Vec<(usize, &str)> = super::text::numbered_lines(text).collect();
+    let (delimiter, decimal_comma) = sniff(&lines);
+    let kinds: Vec<Kind> = lines
+        .iter()
+        .map(|(_, l)| classify(l, delimiter, decimal_comma))
+        .collect();
+
+    let runs = data_runs(&kinds);
+    let Some(&(start, end)) = runs
+        .iter()
+        .filter(|(s, e)| e - s >= 2)
+        .max_by_key(|(s, e)| (e - s, std::cmp::Reverse(*s)))
+    else {
+        return Err(ImportError::NoData);
+    };
+    check_text_inside_data(&lines, &kinds, &runs, start, end, delimiter)?;
+
+    let mut warnings = stray_row_warnings(&lines, &runs, start);
 
     let rows: Vec<(usize, &[Cell])> = (start..end)
         .filter_map(|i| match &kinds[i] {
@@ -300,12 +311,11 @@ fn data_runs(kinds: &[Kind]) -> Vec<(usize, usize)> {
     for (i, k) in kinds.iter().enumerate() {
         match (k, start) {
             (Kind::Data(_), None) => start = Some(i),
-            (Kind::Data(_), Some(_)) => {}
+            (Kind::Data(_), Some(_)) | (_, None) => {}
             (_, Some(s)) => {
                 runs.push((s, i));
                 start = None;
             }
-            (_, None) => {}
         }
     }
     if let Some(s) = start {

@@ -10,7 +10,7 @@
 //! - [`jcamp`] and [`asdf`] read JCAMP-DX 4.24/5.x (AFFN and ASDF compression);
 //! - [`units`] converts the x axis (nm, µm, cm⁻¹, eV, optional air→vacuum) and
 //!   the y quantity (T, %T, log ε → A or ε);
-//! - [`assemble`] sorts, averages duplicate x, flags saturation;
+//! - `assemble` sorts, averages duplicate x, flags saturation;
 //! - [`csv`] writes the text cells of ddlens's CSV exports (formula starts
 //!   neutralised);
 //!
@@ -229,6 +229,25 @@ pub fn read_raw(bytes: &[u8], file_name: &str) -> Result<RawReport, ImportError>
 }
 
 /// Reads a spectrum file and converts every spectrum to the internal axis.
+///
+/// A CSV in wavelength becomes vacuum wavenumbers, ascending, ν̃ = 10⁷/λ(nm):
+///
+/// ```
+/// use ddlens::spectrum::{import, ImportOptions, Quantity, XUnit};
+///
+/// let csv = b"Wavelength (nm),Abs\n400,0.20\n500,0.10\n625,0.05\n";
+/// let report = import(csv, "sample.csv", &ImportOptions::default())?;
+/// let s = &report.spectra[0];
+/// assert_eq!(s.x_unit_read, XUnit::Nanometre);
+/// assert_eq!(s.quantity, Quantity::Absorbance);
+/// assert_eq!((s.wavenumber.len(), s.values.len()), (3, 3));
+/// // 625 nm, 500 nm and 400 nm are 16 000, 20 000 and 25 000 cm⁻¹.
+/// for (got, want) in s.wavenumber.iter().zip([16_000.0, 20_000.0, 25_000.0]) {
+///     assert!((got - want).abs() < 1e-9, "{got} cm⁻¹");
+/// }
+/// assert!((s.values[0] - 0.05).abs() < 1e-12 && (s.values[2] - 0.20).abs() < 1e-12);
+/// # Ok::<(), ddlens::spectrum::ImportError>(())
+/// ```
 pub fn import(
     bytes: &[u8],
     file_name: &str,

@@ -29,7 +29,7 @@ pub fn detect(x: &[f64], absorbance: &[f64]) -> Vec<[f64; 2]> {
         .map(|&a| a >= CEILING_ABSORBANCE)
         .collect();
     if max >= FLAT_MIN_ABSORBANCE {
-        let at_max = |i: usize| absorbance.get(i).is_some_and(|&a| a == max);
+        let at_max = |i: usize| absorbance.get(i).is_some_and(|&a| a >= max);
         let mut i = 0;
         while i < n {
             if at_max(i) {
@@ -80,7 +80,7 @@ mod tests {
 
     #[test]
     fn flat_top_and_ceiling_are_flagged_but_a_peak_is_not() {
-        let x: Vec<f64> = (0..8).map(|i| 1000.0 + i as f64).collect();
+        let x: Vec<f64> = (0..8).map(|i| 1000.0 + f64::from(i)).collect();
         let clipped = [0.5, 2.0, 3.2, 3.2, 3.2, 2.0, 0.4, 0.1];
         assert_eq!(detect(&x, &clipped), vec![[1002.0, 1004.0]]);
         let peak = [0.5, 2.0, 3.1, 3.2, 3.1, 2.0, 0.4, 0.1];

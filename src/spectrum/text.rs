@@ -27,15 +27,14 @@ pub fn decode(bytes: &[u8]) -> Decoded {
 }
 
 fn utf8_or_latin1(bytes: &[u8], warnings: &mut Vec<Warning>) -> String {
-    match std::str::from_utf8(bytes) {
-        Ok(s) => s.to_string(),
-        Err(_) => {
-            warnings.push(Warning::new(
-                None,
-                "the file is not valid UTF-8; it was read as Latin-1 (ISO-8859-1)",
-            ));
-            bytes.iter().map(|&b| char::from(b)).collect()
-        }
+    if let Ok(s) = std::str::from_utf8(bytes) {
+        s.to_string()
+    } else {
+        warnings.push(Warning::new(
+            None,
+            "the file is not valid UTF-8; it was read as Latin-1 (ISO-8859-1)",
+        ));
+        bytes.iter().map(|&b| char::from(b)).collect()
     }
 }
 

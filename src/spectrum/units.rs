@@ -1,6 +1,6 @@
 //! Units of the x axis and quantities of the y axis.
 //!
-//! - x: ν̃ [cm⁻¹] = 10⁷/λ[nm] = 10⁴/λ[µm] = E[eV]·e/(hc); e/(hc) is computed from the
+//! - x: ν̃ \[cm⁻¹\] = 10⁷/λ\[nm\] = 10⁴/λ\[µm\] = E\[eV\]·e/(hc); e/(hc) is computed from the
 //!   exact SI 2019 constants (e = 1.602176634e-19 C, h = 6.62607015e-34 J s,
 //!   c = 299792458 m/s), ≈ 8065.544 cm⁻¹ per eV.
 //! - air → vacuum: λ_vac = n(λ)·λ_air with the refractive index of standard air
@@ -43,7 +43,7 @@ pub enum Quantity {
 }
 
 /// cm⁻¹ per eV: e/(h c) with c in cm/s, from the exact SI constants.
-pub const WAVENUMBER_PER_EV: f64 = 1.602176634e-19 / (6.62607015e-34 * 2.99792458e10);
+pub const WAVENUMBER_PER_EV: f64 = 1.602_176_634e-19 / (6.626_070_15e-34 * 2.997_924_58e10);
 
 /// Shortest and longest wavelength (nm) where Ciddor (1996) is stated valid.
 pub const CIDDOR_VALID_NM: [f64; 2] = [230.0, 1690.0];
@@ -282,7 +282,7 @@ mod tests {
     #[test]
     fn electronvolt_and_transmittance_conversions() {
         // CODATA 2018 (NIST): 1 eV ↔ 8065.543937... cm⁻¹.
-        assert!((WAVENUMBER_PER_EV - 8065.543937).abs() < 1e-5);
+        assert!((WAVENUMBER_PER_EV - 8_065.543_937).abs() < 1e-5);
         // A = 2 − log10(%T): 10 %T is A = 1; T = 0.001 is A = 3 (IUPAC definition).
         assert!((Quantity::PercentTransmittance.to_absorbance(10.0).unwrap() - 1.0).abs() < 1e-12);
         assert!((Quantity::Transmittance.to_absorbance(0.001).unwrap() - 3.0).abs() < 1e-12);
@@ -299,7 +299,7 @@ mod tests {
         // Ciddor and Morton agree to < 1e-7 in n above 300 nm.
         for lambda in [300.0, 400.0, 500.0, 650.0, 900.0, 1500.0] {
             let s2 = (1e4 / (lambda * 10.0_f64)).powi(2);
-            let morton = 8.34254e-5 + 2.406147e-2 / (130.0 - s2) + 1.5998e-4 / (38.9 - s2);
+            let morton = 8.342_54e-5 + 2.406_147e-2 / (130.0 - s2) + 1.599_8e-4 / (38.9 - s2);
             assert!(
                 (air_refractivity_ciddor(lambda) - morton).abs() < 1e-7,
                 "{lambda}"

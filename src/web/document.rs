@@ -31,8 +31,7 @@ pub fn analyze_document(doc: JsValue, progress: &js_sys::Function) -> Result<JsV
     let mut report = |p: crate::bands::Progress| {
         progress
             .call1(&JsValue::NULL, &JsValue::from_f64(p.iteration as f64))
-            .map(|v| v.as_bool() != Some(false))
-            .unwrap_or(true)
+            .map_or(true, |v| v.as_bool() != Some(false))
     };
     let done = analysis::analyze(&doc, &mut report).map_err(|e| JsError::new(&e.to_string()))?;
     to_js(&done)
@@ -59,7 +58,7 @@ pub fn apply_steps(data: JsValue, steps: JsValue) -> Result<JsValue, JsError> {
         quantity: data.quantity,
         x_unit_read: XUnit::Wavenumber,
         saturated: data.saturated,
-        metadata: Default::default(),
+        metadata: std::collections::BTreeMap::default(),
         warnings: Vec::new(),
     };
     let (out, warnings) =

@@ -113,7 +113,7 @@ pub fn import_spectrum(
     options: JsValue,
 ) -> Result<JsValue, JsError> {
     let opts: crate::spectrum::ImportOptions = if options.is_null() || options.is_undefined() {
-        Default::default()
+        crate::spectrum::ImportOptions::default()
     } else {
         from_js(options, "the import settings")?
     };
