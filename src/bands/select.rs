@@ -5,8 +5,8 @@ use super::{
     guess, BandCountReport, BandFit, BandFitError, BandModel, BaselineModel, FitOptions, Shape,
 };
 
-/// Fits 1…max_n bands (starts from [`guess`]) and recommends the smallest
-/// count whose BIC is within 2 of the lowest (ΔBIC < 2 is "not worth more
+/// Fits 1…max_n bands (starts from [`guess()`](super::guess())) and recommends
+/// the smallest count whose BIC is within 2 of the lowest (ΔBIC < 2 is "not worth more
 /// than a bare mention", Kass & Raftery 1995, from memory).
 pub fn select_band_count(
     x: &[f64],
