@@ -84,3 +84,14 @@ export function runCli(args) {
   const out = existsSync(bin) ? execFileSync(bin, args) : execFileSync('cargo', ['run', '--quiet', '--', ...args]);
   return JSON.parse(out.toString());
 }
+
+// A main-thread task longer than this is a freeze a user notices. Shorter long
+// tasks are logged, not asserted: timings are measured by perf.test.mjs and
+// `make bench`, never by a timed assertion that a busy machine can fail.
+export const FREEZE_MS = 1000;
+
+/** Logs the longest main-thread task of a step and fails only on a freeze. */
+export function noFreeze(longestMs, during) {
+  console.log(`longest main-thread task ${during}: ${longestMs} ms`);
+  if (!(longestMs < FREEZE_MS)) throw new Error(`the page froze for ${longestMs} ms ${during}`);
+}
