@@ -88,18 +88,15 @@ pub(crate) fn names_state(m: &crate::ligand_field::Model, gamma: f64, name: &str
     })
 }
 
+/// For each Δ/B of the scan grid: the levels per unit B (B = 1, C = γ) and
+/// their keys.
+type Tables = Vec<(f64, Vec<Level>, Vec<Key>)>;
+
 /// All order-preserving assignments, best-scanned first (at most `LIMIT`,
-/// plus all that satisfy forced assignments).
-#[expect(
-    clippy::too_many_lines,
-    reason = "over the ~100-line limit; to be split into named steps (issue 15)"
-)]
+/// plus all that satisfy forced assignments): the scan tables, the candidate
+/// sets, a scan of each set over Δ/B, and the best few of each starting spin.
 pub(crate) fn assignments(p: &Problem) -> Result<Vec<Tuple>, LfFitError> {
-    const LIMIT: usize = 10;
-    const MAX_COMBINATIONS: usize = 4000;
     let m = model(p.n, p.geometry)?;
-    let k = p.bands.len();
-    let weights: Vec<f64> = p.sigmas.iter().map(|s| 1.0 / (s * s)).collect();
     let forced: Vec<Option<String>> = p.bands.iter().map(|b| b.assign.clone()).collect();
     if let Some(f) = forced
         .iter()
@@ -108,6 +105,22 @@ pub(crate) fn assignments(p: &Problem) -> Result<Vec<Tuple>, LfFitError> {
     {
         return Err(LfFitError::UnknownState(f.clone()));
     }
+    let (tables, starts) = scan_tables(m, p)?;
+    let set = candidate_sets(p, &tables, &starts, &forced)?;
+    let weights: Vec<f64> = p.sigmas.iter().map(|s| 1.0 / (s * s)).collect();
+    let tuples = set
+        .into_iter()
+        .filter_map(|(s, finals)| scan_assignment(p, &tables, &weights, s, finals))
+        .collect();
+    Ok(best_per_spin(tuples, &starts))
+}
+
+/// The scan tables and the starting multiplicities (the ground levels met
+/// along the grid).
+fn scan_tables(
+    m: &crate::ligand_field::Model,
+    p: &Problem,
+) -> Result<(Tables, Vec<u8>), LfFitError> {
     // For each Δ/B: the energy per unit B of every level above each starting level.
     let mut tables: Vec<(f64, Vec<Level>, Vec<Key>)> = Vec::new();
     let mut starts: Vec<u8> = Vec::new();
@@ -125,10 +138,22 @@ pub(crate) fn assignments(p: &Problem) -> Result<Vec<Tuple>, LfFitError> {
         let ks = keys(&levels);
         tables.push((x, levels, ks));
     }
+    Ok((tables, starts))
+}
+
+/// Every set of final states the bands can take, by starting multiplicity.
+fn candidate_sets(
+    p: &Problem,
+    tables: &Tables,
+    starts: &[u8],
+    forced: &[Option<String>],
+) -> Result<HashSet<(u8, Vec<Key>)>, LfFitError> {
+    const MAX_COMBINATIONS: usize = 4000;
+    let k = p.bands.len();
     let mut set: HashSet<(u8, Vec<Key>)> = HashSet::new();
     let mut any_candidate = false;
-    for &s in &starts {
-        for (_, levels, ks) in &tables {
+    for &s in starts {
+        for (_, levels, ks) in tables {
             let Some(i0) = start_index(levels, s) else {
                 continue;
             };
@@ -151,7 +176,7 @@ pub(crate) fn assignments(p: &Problem) -> Result<Vec<Tuple>, LfFitError> {
             }
             for combo in combinations(c, k) {
                 let finals: Vec<usize> = combo.iter().map(|&i| cands[i]).collect();
-                if finals.iter().zip(&forced).all(|(&j, f)| {
+                if finals.iter().zip(forced).all(|(&j, f)| {
                     forced_ok(&levels[j], f.as_deref()) && (f.is_some() || allowed(j))
                 }) {
                     set.insert((s, finals.iter().map(|&j| ks[j].clone()).collect()));
@@ -182,85 +207,96 @@ pub(crate) fn assignments(p: &Problem) -> Result<Vec<Tuple>, LfFitError> {
             }
         )));
     }
-    // Scan each assignment over Δ/B; B is linear at fixed Δ/B. The preselection
-    // score adds penalties for a starting level that is not the ground level at
-    // that Δ/B, for an implausible B, and for lower spin-allowed transitions left
-    // out (the same rules as the final ranking).
-    let mut tuples: Vec<Tuple> = Vec::new();
-    for (s, finals) in set {
-        let mut best = Tuple {
-            start_multiplicity: s,
-            finals: finals.clone(),
-            scan_chi2: f64::INFINITY,
-            pre_score: f64::INFINITY,
-            delta_over_b: 0.0,
-            b: 0.0,
+    Ok(set)
+}
+
+/// One assignment scanned over Δ/B, B linear at fixed Δ/B; None when it fits
+/// nowhere on the grid. The preselection score adds penalties for a starting
+/// level that is not the ground level at that Δ/B, for an implausible B, and
+/// for lower spin-allowed transitions left out (the same rules as the final
+/// ranking).
+fn scan_assignment(
+    p: &Problem,
+    tables: &Tables,
+    weights: &[f64],
+    s: u8,
+    finals: Vec<Key>,
+) -> Option<Tuple> {
+    let mut best = Tuple {
+        start_multiplicity: s,
+        finals,
+        scan_chi2: f64::INFINITY,
+        pre_score: f64::INFINITY,
+        delta_over_b: 0.0,
+        b: 0.0,
+    };
+    for (x, levels, ks) in tables {
+        let Some(i0) = start_index(levels, s) else {
+            continue;
         };
-        for (x, levels, ks) in &tables {
-            let Some(i0) = start_index(levels, s) else {
-                continue;
-            };
-            let idx: Option<Vec<usize>> = finals
-                .iter()
-                .map(|key| ks.iter().position(|q| q == key))
-                .collect();
-            let Some(idx) = idx else { continue };
-            let f: Vec<f64> = idx
-                .iter()
-                .map(|&j| levels[j].energy - levels[i0].energy)
-                .collect();
-            let (mut num, mut den) = (0.0, 0.0);
-            for ((fi, b), w) in f.iter().zip(&p.bands).zip(&weights) {
-                num += w * b.energy * fi;
-                den += w * fi * fi;
-            }
-            if den <= 0.0 || num <= 0.0 {
-                continue;
-            }
-            let bb = num / den;
-            let chi2: f64 = f
-                .iter()
-                .zip(&p.bands)
-                .zip(&weights)
-                .map(|((fi, b), w)| w * (b.energy - bb * fi).powi(2))
-                .sum();
-            let top = f.iter().copied().fold(0.0, f64::max);
-            let skipped = (0..levels.len())
-                .filter(|&j| {
-                    j != i0
-                        && !idx.contains(&j)
-                        && levels[j].multiplicity == s
-                        && levels[j].energy - levels[i0].energy < top
-                })
-                .count();
-            let b_bad = match &p.b0 {
-                Some((b0, _)) => !(0.3 * b0..=1.05 * b0).contains(&bb),
-                None => !(150.0..=1300.0).contains(&bb),
-            };
-            let spin_bad = levels.first().is_some_and(|g| g.multiplicity != s);
-            let score = chi2
-                + 4.0 * skipped as f64
-                + 100.0 * f64::from(u8::from(b_bad))
-                + 100.0 * f64::from(u8::from(spin_bad));
-            if score < best.pre_score {
-                best.scan_chi2 = chi2;
-                best.pre_score = score;
-                best.delta_over_b = *x;
-                best.b = bb;
-            }
+        let idx: Option<Vec<usize>> = best
+            .finals
+            .iter()
+            .map(|key| ks.iter().position(|q| q == key))
+            .collect();
+        let Some(idx) = idx else { continue };
+        let f: Vec<f64> = idx
+            .iter()
+            .map(|&j| levels[j].energy - levels[i0].energy)
+            .collect();
+        let (mut num, mut den) = (0.0, 0.0);
+        for ((fi, b), w) in f.iter().zip(&p.bands).zip(weights) {
+            num += w * b.energy * fi;
+            den += w * fi * fi;
         }
-        if best.pre_score.is_finite() {
-            tuples.push(best);
+        if den <= 0.0 || num <= 0.0 {
+            continue;
+        }
+        let bb = num / den;
+        let chi2: f64 = f
+            .iter()
+            .zip(&p.bands)
+            .zip(weights)
+            .map(|((fi, b), w)| w * (b.energy - bb * fi).powi(2))
+            .sum();
+        let top = f.iter().copied().fold(0.0, f64::max);
+        let skipped = (0..levels.len())
+            .filter(|&j| {
+                j != i0
+                    && !idx.contains(&j)
+                    && levels[j].multiplicity == s
+                    && levels[j].energy - levels[i0].energy < top
+            })
+            .count();
+        let b_bad = match &p.b0 {
+            Some((b0, _)) => !(0.3 * b0..=1.05 * b0).contains(&bb),
+            None => !(150.0..=1300.0).contains(&bb),
+        };
+        let spin_bad = levels.first().is_some_and(|g| g.multiplicity != s);
+        let score = chi2
+            + 4.0 * skipped as f64
+            + 100.0 * f64::from(u8::from(b_bad))
+            + 100.0 * f64::from(u8::from(spin_bad));
+        if score < best.pre_score {
+            best.scan_chi2 = chi2;
+            best.pre_score = score;
+            best.delta_over_b = *x;
+            best.b = bb;
         }
     }
+    best.pre_score.is_finite().then_some(best)
+}
+
+/// The best few tuples of each starting spin, so both spin states are refined.
+fn best_per_spin(mut tuples: Vec<Tuple>, starts: &[u8]) -> Vec<Tuple> {
+    const LIMIT: usize = 10;
     tuples.sort_by(|a, b| {
         a.pre_score
             .total_cmp(&b.pre_score)
             .then_with(|| a.finals.cmp(&b.finals))
     });
-    // Keep the best few of each starting spin, so both spin states are refined.
     let mut kept: Vec<Tuple> = Vec::new();
-    for &s in &starts {
+    for &s in starts {
         kept.extend(
             tuples
                 .iter()
@@ -270,7 +306,7 @@ pub(crate) fn assignments(p: &Problem) -> Result<Vec<Tuple>, LfFitError> {
         );
     }
     kept.sort_by(|a, b| a.pre_score.total_cmp(&b.pre_score));
-    Ok(kept)
+    kept
 }
 
 fn binomial(n: usize, k: usize) -> usize {
