@@ -10,10 +10,9 @@ use super::units::{air_to_vacuum_nm, Quantity, XUnit, YLabel, CIDDOR_VALID_NM};
 use super::{ImportError, ImportOptions, RawSpectrum, Spectrum, Warning};
 use super::{MAX_MAGNITUDE, WAVENUMBER_RANGE};
 
-#[expect(
-    clippy::too_many_lines,
-    reason = "over the ~100-line limit; to be split into named steps (issue 15)"
-)]
+/// Points as (wavenumber, value, file line).
+type Points = Vec<(f64, f64, usize)>;
+
 pub(super) fn assemble(raw: RawSpectrum, opts: &ImportOptions) -> Result<Spectrum, ImportError> {
     let mut warnings = raw.warnings;
     let mut metadata = raw.metadata;
@@ -34,6 +33,128 @@ pub(super) fn assemble(raw: RawSpectrum, opts: &ImportOptions) -> Result<Spectru
         },
     );
 
+    let (mut points, opaque_ranges) = convert_points(
+        &raw.x,
+        &raw.y,
+        &raw.lines,
+        x_unit,
+        y_label,
+        opts,
+        &mut warnings,
+    );
+    points.sort_by(|a, b| a.0.total_cmp(&b.0));
+    let (mut wavenumber, mut values, mut lines) = average_duplicates(&points, &mut warnings);
+    if wavenumber.len() < 2 {
+        return Err(ImportError::NoData);
+    }
+
+    let quantity = match y_label {
+        YLabel::LogMolarAbsorptivity => Quantity::MolarAbsorptivity,
+        YLabel::Quantity(Quantity::Transmittance | Quantity::PercentTransmittance) => {
+            Quantity::Absorbance
+        }
+        YLabel::Quantity(q) => q,
+    };
+    let mut saturated = opaque_ranges;
+    if quantity == Quantity::Absorbance {
+        saturated.extend(saturation::detect(&wavenumber, &values));
+    }
+    let saturated = saturation::merge(saturated);
+    if !saturated.is_empty() {
+        warnings.push(Warning::new(
+            None,
+            format!("{} saturated range(s) flagged (absorbance at the detector ceiling or clipped flat)", saturated.len()),
+        ));
+    }
+
+    let quantity = divide_by_cl(
+        quantity,
+        opts,
+        (&mut wavenumber, &mut values, &mut lines),
+        &mut metadata,
+        &mut warnings,
+    )?;
+
+    Ok(Spectrum {
+        name: raw.name,
+        wavenumber,
+        values,
+        quantity,
+        x_unit_read: x_unit,
+        saturated,
+        metadata,
+        warnings,
+    })
+}
+
+/// With both a concentration and a path length, absorbance becomes ε = A/(c·l)
+/// (Beer–Lambert), the points that leave the bounds are dropped, and the two
+/// settings are noted in the metadata; with one of them only, a warning.
+fn divide_by_cl(
+    quantity: Quantity,
+    opts: &ImportOptions,
+    columns: (&mut Vec<f64>, &mut Vec<f64>, &mut Vec<usize>),
+    metadata: &mut std::collections::BTreeMap<String, String>,
+    warnings: &mut Vec<Warning>,
+) -> Result<Quantity, ImportError> {
+    let (wavenumber, values, lines) = columns;
+    Ok(match (opts.concentration_mol_l, opts.path_length_cm) {
+        (None, None) => quantity,
+        (Some(c), Some(l)) => {
+            if !(c > 0.0 && c.is_finite() && l > 0.0 && l.is_finite()) {
+                return Err(ImportError::BadOption(format!(
+                    "concentration ({c} mol/L) and path length ({l} cm) must both be positive"
+                )));
+            }
+            metadata.insert("concentration (mol/L)".into(), c.to_string());
+            metadata.insert("path length (cm)".into(), l.to_string());
+            let cl = c * l;
+            if !(cl > 0.0 && cl.is_finite()) {
+                return Err(ImportError::BadOption(format!(
+                    "concentration × path length ({c} mol/L × {l} cm) is not a usable positive number"
+                )));
+            }
+            if quantity == Quantity::Absorbance {
+                for v in values.iter_mut() {
+                    *v /= cl;
+                }
+                drop_unbounded(wavenumber, values, lines, warnings);
+                if wavenumber.len() < 2 {
+                    return Err(ImportError::BadOption(format!(
+                        "dividing by concentration × path length ({cl:e} mol L⁻¹ cm) leaves fewer than two finite points"
+                    )));
+                }
+                Quantity::MolarAbsorptivity
+            } else {
+                warnings.push(Warning::new(
+                    None,
+                    format!("concentration and path length were ignored: the values are {}, not absorbance", quantity.describe()),
+                ));
+                quantity
+            }
+        }
+        _ => {
+            warnings.push(Warning::new(
+                None,
+                "ε needs both the concentration and the path length; only one was given, so the values stay absorbance",
+            ));
+            quantity
+        }
+    })
+}
+
+/// Converts each point to (vacuum wavenumber, absorbance or ε, file line),
+/// dropping those that give no finite, bounded value (each class with one
+/// warning naming its rows); also returns the opaque points as ranges to flag.
+fn convert_points(
+    x_values: &[f64],
+    y_values: &[f64],
+    lines: &[usize],
+    x_unit: XUnit,
+    y_label: YLabel,
+    opts: &ImportOptions,
+    warnings: &mut Vec<Warning>,
+) -> (Points, Vec<[f64; 2]>) {
     if opts.air_to_vacuum && !x_unit.is_wavelength() {
         warnings.push(Warning::new(
             None,
@@ -47,12 +168,12 @@ pub(super) fn assemble(raw: RawSpectrum, opts: &ImportOptions) -> Result<Spectru
         1.0
     };
 
-    let mut points: Vec<(f64, f64, usize)> = Vec::with_capacity(raw.x.len());
+    let mut points: Vec<(f64, f64, usize)> = Vec::with_capacity(x_values.len());
     let (mut bad_x, mut bad_y, mut opaque) = (Vec::new(), Vec::new(), Vec::new());
     let mut outside_ciddor = false;
     let mut opaque_ranges = Vec::new();
-    for (i, (&x, &y)) in raw.x.iter().zip(&raw.y).enumerate() {
-        let line = raw.lines.get(i).copied().unwrap_or(0);
+    for (i, (&x, &y)) in x_values.iter().zip(y_values).enumerate() {
+        let line = lines.get(i).copied().unwrap_or(0);
         let wavenumber = if correct_air && x > 0.0 {
             let nm = x * nm_per_unit;
             outside_ciddor |= !(CIDDOR_VALID_NM[0]..=CIDDOR_VALID_NM[1]).contains(&nm);
@@ -116,85 +237,7 @@ pub(super) fn assemble(raw: RawSpectrum, opts: &ImportOptions) -> Result<Spectru
         ));
     }
 
-    points.sort_by(|a, b| a.0.total_cmp(&b.0));
-    let (mut wavenumber, mut values, mut lines) = average_duplicates(&points, &mut warnings);
-    if wavenumber.len() < 2 {
-        return Err(ImportError::NoData);
-    }
-
-    let quantity = match y_label {
-        YLabel::LogMolarAbsorptivity => Quantity::MolarAbsorptivity,
-        YLabel::Quantity(Quantity::Transmittance | Quantity::PercentTransmittance) => {
-            Quantity::Absorbance
-        }
-        YLabel::Quantity(q) => q,
-    };
-    let mut saturated = opaque_ranges;
-    if quantity == Quantity::Absorbance {
-        saturated.extend(saturation::detect(&wavenumber, &values));
-    }
-    let saturated = saturation::merge(saturated);
-    if !saturated.is_empty() {
-        warnings.push(Warning::new(
-            None,
-            format!("{} saturated range(s) flagged (absorbance at the detector ceiling or clipped flat)", saturated.len()),
-        ));
-    }
-
-    let quantity = match (opts.concentration_mol_l, opts.path_length_cm) {
-        (None, None) => quantity,
-        (Some(c), Some(l)) => {
-            if !(c > 0.0 && c.is_finite() && l > 0.0 && l.is_finite()) {
-                return Err(ImportError::BadOption(format!(
-                    "concentration ({c} mol/L) and path length ({l} cm) must both be positive"
-                )));
-            }
-            metadata.insert("concentration (mol/L)".into(), c.to_string());
-            metadata.insert("path length (cm)".into(), l.to_string());
-            let cl = c * l;
-            if !(cl > 0.0 && cl.is_finite()) {
-                return Err(ImportError::BadOption(format!(
-                    "concentration × path length ({c} mol/L × {l} cm) is not a usable positive number"
-                )));
-            }
-            if quantity == Quantity::Absorbance {
-                for v in &mut values {
-                    *v /= cl;
-                }
-                drop_unbounded(&mut wavenumber, &mut values, &mut lines, &mut warnings);
-                if wavenumber.len() < 2 {
-                    return Err(ImportError::BadOption(format!(
-                        "dividing by concentration × path length ({cl:e} mol L⁻¹ cm) leaves fewer than two finite points"
-                    )));
-                }
-                Quantity::MolarAbsorptivity
-            } else {
-                warnings.push(Warning::new(
-                    None,
-                    format!("concentration and path length were ignored: the values are {}, not absorbance", quantity.describe()),
-                ));
-                quantity
-            }
-        }
-        _ => {
-            warnings.push(Warning::new(
-                None,
-                "ε needs both the concentration and the path length; only one was given, so the values stay absorbance",
-            ));
-            quantity
-        }
-    };
-
-    Ok(Spectrum {
-        name: raw.name,
-        wavenumber,
-        values,
-        quantity,
-        x_unit_read: x_unit,
-        saturated,
-        metadata,
-        warnings,
-    })
+    (points, opaque_ranges)
 }
 
 /// The x unit: the option, else the label, else a guess from the range.
