@@ -229,10 +229,6 @@ fn says_count(label: f64, count: usize) -> bool {
 }
 
 /// `##XYDATA=(X++(Y..Y))`.
-#[expect(
-    clippy::too_many_lines,
-    reason = "over the ~100-line limit; to be split into named steps (issue 15)"
-)]
 fn xydata(block: &Block, record: &Record) -> Result<RawSpectrum, ImportError> {
     let form: String = record
         .value
@@ -252,74 +248,14 @@ fn xydata(block: &Block, record: &Record) -> Result<RawSpectrum, ImportError> {
     let mut s = base(block);
     let (xfactor, yfactor) = (factor(block, "XFACTOR"), factor(block, "YFACTOR"));
     let asdf = record.data.iter().any(|(_, l)| l.chars().any(is_asdf_char));
-    let mut ys: Vec<f64> = Vec::new();
-    let mut lines: Vec<usize> = Vec::new();
-    let mut line_starts: Vec<(usize, f64, usize)> = Vec::new();
-    let mut previous_end = LineEnd::Absolute;
-    let mut checkpoint_warned = false;
-    // Ordinates kept after a relayed DIF because they did not match: maybe checks after all.
-    let mut uncertain: Vec<usize> = Vec::new();
-    for (number, text) in &record.data {
-        let decoded = decode_line(text, asdf).map_err(|m| ImportError::Malformed {
-            line: Some(*number),
-            message: m,
-        })?;
-        let Some((&x, y_line)) = decoded.values.split_first() else {
-            continue;
-        };
-        let mut y_line = y_line;
-        if previous_end != LineEnd::Absolute {
-            if let (Some(&check), Some(&last)) = (y_line.first(), ys.last()) {
-                let matches = (check - last).abs() <= 1e-9 * last.abs().max(1.0);
-                if matches || previous_end == LineEnd::Dif {
-                    y_line = &y_line[1..];
-                } else {
-                    uncertain.push(ys.len());
-                }
-                if !matches && previous_end == LineEnd::Dif && !checkpoint_warned {
-                    s.warnings.push(Warning::new(
-                        Some(*number),
-                        format!("Y checkpoint {check} differs from the previous line's last value {last}; the data may be corrupt"),
-                    ));
-                    checkpoint_warned = true;
-                }
-            }
-        }
-        check_limit(
-            ys.len() + y_line.len(),
-            MAX_POINTS,
-            "points in one spectrum",
-        )?;
-        line_starts.push((ys.len(), x * xfactor, *number));
-        ys.extend_from_slice(y_line);
-        lines.extend(std::iter::repeat_n(*number, y_line.len()));
-        previous_end = decoded.end;
-    }
+    let Ordinates {
+        mut ys,
+        mut lines,
+        line_starts,
+        uncertain,
+    } = ordinates(record, asdf, xfactor, &mut s.warnings)?;
     let npoints = block.number("NPOINTS");
-    // readJDX's rule for relayed DIF: if treating every unmatched value after a
-    // DUP-of-DIF as a checkpoint gives exactly NPOINTS, that reading is the right one.
-    if let Some((n, line)) = npoints {
-        if !uncertain.is_empty() && says_count(n, ys.len() - uncertain.len()) {
-            let mut drop = vec![false; ys.len()];
-            for &i in &uncertain {
-                drop[i] = true;
-            }
-            let mut k = 0;
-            ys.retain(|_| {
-                k += 1;
-                !drop[k - 1]
-            });
-            let mut k = 0;
-            lines.retain(|_| {
-                k += 1;
-                !drop[k - 1]
-            });
-            s.warnings.push(Warning::new(
-                Some(line),
-                format!("{} values after a relayed DIF (DUP of DIF) were taken as checkpoints to match ##NPOINTS=", uncertain.len()),
-            ));
-        }
-    }
+    drop_relayed_checkpoints(npoints, &uncertain, &mut ys, &mut lines, &mut s.warnings);
     let count = ys.len();
     if let Some((n, line)) = npoints {
         if !says_count(n, count) {
@@ -377,6 +313,108 @@ fn xydata(block: &Block, record: &Record) -> Result<RawSpectrum, ImportError> {
     s.lines = lines;
     drop_missing(&mut s);
     Ok(s)
+}
+
+/// readJDX's rule for relayed DIF: if treating every unmatched value after a
+/// DUP-of-DIF as a checkpoint gives exactly NPOINTS, that reading is the right one.
+fn drop_relayed_checkpoints(
+    npoints: Option<(f64, usize)>,
+    uncertain: &[usize],
+    ys: &mut Vec<f64>,
+    lines: &mut Vec<usize>,
+    warnings: &mut Vec<Warning>,
+) {
+    if let Some((n, line)) = npoints {
+        if !uncertain.is_empty() && says_count(n, ys.len() - uncertain.len()) {
+            let mut drop = vec![false; ys.len()];
+            for &i in uncertain {
+                drop[i] = true;
+            }
+            let mut k = 0;
+            ys.retain(|_| {
+                k += 1;
+                !drop[k - 1]
+            });
+            let mut k = 0;
+            lines.retain(|_| {
+                k += 1;
+                !drop[k - 1]
+            });
+            warnings.push(Warning::new(
+                Some(line),
+                format!("{} values after a relayed DIF (DUP of DIF) were taken as checkpoints to match ##NPOINTS=", uncertain.len()),
+            ));
+        }
+    }
+}
+
+/// The ordinates of an `(X++(Y..Y))` table, decoded line by line with the
+/// JCAMP-DX Y-checkpoint rule (a line after a DIF line repeats the last value).
+struct Ordinates {
+    ys: Vec<f64>,
+    /// The file line of each ordinate.
+    lines: Vec<usize>,
+    /// (index of the line's first ordinate, its x × XFACTOR, file line).
+    line_starts: Vec<(usize, f64, usize)>,
+    /// Ordinates kept after a relayed DIF because they did not match: maybe
+    /// checkpoints after all.
+    uncertain: Vec<usize>,
+}
+
+fn ordinates(
+    record: &Record,
+    asdf: bool,
+    xfactor: f64,
+    warnings: &mut Vec<Warning>,
+) -> Result<Ordinates, ImportError> {
+    let mut ys: Vec<f64> = Vec::new();
+    let mut lines: Vec<usize> = Vec::new();
+    let mut line_starts: Vec<(usize, f64, usize)> = Vec::new();
+    let mut previous_end = LineEnd::Absolute;
+    let mut checkpoint_warned = false;
+    let mut uncertain: Vec<usize> = Vec::new();
+    for (number, text) in &record.data {
+        let decoded = decode_line(text, asdf).map_err(|m| ImportError::Malformed {
+            line: Some(*number),
+            message: m,
+        })?;
+        let Some((&x, y_line)) = decoded.values.split_first() else {
+            continue;
+        };
+        let mut y_line = y_line;
+        if previous_end != LineEnd::Absolute {
+            if let (Some(&check), Some(&last)) = (y_line.first(), ys.last()) {
+                let matches = (check - last).abs() <= 1e-9 * last.abs().max(1.0);
+                if matches || previous_end == LineEnd::Dif {
+                    y_line = &y_line[1..];
+                } else {
+                    uncertain.push(ys.len());
+                }
+                if !matches && previous_end == LineEnd::Dif && !checkpoint_warned {
+                    warnings.push(Warning::new(
+                        Some(*number),
+                        format!("Y checkpoint {check} differs from the previous line's last value {last}; the data may be corrupt"),
+                    ));
+                    checkpoint_warned = true;
+                }
+            }
+        }
+        check_limit(
+            ys.len() + y_line.len(),
+            MAX_POINTS,
+            "points in one spectrum",
+        )?;
+        line_starts.push((ys.len(), x * xfactor, *number));
+        ys.extend_from_slice(y_line);
+        lines.extend(std::iter::repeat_n(*number, y_line.len()));
+        previous_end = decoded.end;
+    }
+    Ok(Ordinates {
+        ys,
+        lines,
+        line_starts,
+        uncertain,
+    })
 }
 
 /// `(XY..XY)`, `(XYW..XYW)`, `(XYM..XYM)` groups of `##XYPOINTS=` or `##PEAK TABLE=`.
