@@ -27,7 +27,12 @@ const app = [
   '',
 ].join('\n');
 const worker = read('www/worker.js');
-const glue = read('dist/pkg/ddlens_glue.js');
+// The glue gains `forget()`: after a wasm trap the page and the worker drop
+// the broken instance and instantiate the cached module again (issue 20).
+const END = 'return Object.assign(__wbg_init, { initSync }, exports);';
+const rawGlue = read('dist/pkg/ddlens_glue.js');
+if (!rawGlue.includes(END)) throw new Error('the wasm-bindgen glue changed: its last line is not the expected one');
+const glue = rawGlue.replace(END, 'const forget = () => { wasm = undefined; __wbg_init_promise = undefined; };\n    ' + END.replace('{ initSync }', '{ initSync, forget }'));
 const wasm = readFileSync('dist/pkg/ddlens_glue_bg.wasm');
 
 for (const [name, text] of [['glue', glue], ['app', app], ['worker', worker]]) {

@@ -15,10 +15,18 @@ const jobs = {
 };
 
 let ready = null;
+let module = null;
+/** After a wasm trap the instance may be broken: drop it and instantiate the cached module again. */
+function restartEngine(e) {
+  wasm_bindgen.forget();
+  ready = wasm_bindgen({ module_or_path: module });
+  return `The engine stopped on an internal error (${e.message}) and was restarted; nothing of the workspace was lost. Please report what you did.`;
+}
 self.onmessage = async (event) => {
   const msg = event.data;
   if (msg.type === 'init') {
-    ready = wasm_bindgen({ module_or_path: msg.module });
+    module = msg.module;
+    ready = wasm_bindgen({ module_or_path: module });
     try { await ready; self.postMessage({ type: 'ready' }); }
     catch (e) { self.postMessage({ type: 'init-failed', error: String(e && e.message || e) }); }
     return;
@@ -30,6 +38,7 @@ self.onmessage = async (event) => {
     const result = job(msg, (progress) => self.postMessage({ id: msg.id, progress }));
     self.postMessage({ id: msg.id, ok: true, result });
   } catch (e) {
-    self.postMessage({ id: msg.id, ok: false, error: String(e && e.message || e) });
+    const error = e instanceof WebAssembly.RuntimeError ? restartEngine(e) : String(e && e.message || e);
+    self.postMessage({ id: msg.id, ok: false, error });
   }
 };

@@ -10,7 +10,8 @@
 //! - [`project_from_json`] / [`project_to_json`]: project files, autosave and
 //!   share links, validated and written by the core;
 //! - [`defaults`]: every default the page shows or sends;
-//! - [`format_estimate`]: a value with its σ as the engine writes it.
+//! - [`format_estimate`]: a value with its σ as the engine writes it;
+//! - [`csv_cell`]: one text cell of the page's CSV exports (`spectrum::csv::text_cell`).
 
 use super::{from_js, to_js};
 use crate::analysis::{self, defaults::Defaults, document};
@@ -115,6 +116,12 @@ pub fn project_to_json(text: &str) -> Result<String, JsError> {
     Ok(project.to_json())
 }
 
+/// The most bytes a share link may inflate to, 64 MiB (the figure issue 20
+/// names): a link is at most a few MiB of text in any browser, and deflate
+/// expands at most about 1 032 : 1 (from memory), so a larger output is a decompression
+/// bomb, not a project. The page counts bytes while inflating and stops here.
+pub const MAX_LINK_TEXT: usize = 64 << 20;
+
 /// The page's defaults: the engine's (`analysis::defaults`) plus what the
 /// page's read-outs and band editing use.
 #[derive(Serialize)]
@@ -132,6 +139,8 @@ struct PageDefaults {
     b_stand_in: f64,
     /// The highest energy the what-if predictions list, cm⁻¹ (the fit's default).
     max_prediction: f64,
+    /// The most bytes a share link may inflate to ([`MAX_LINK_TEXT`]).
+    max_link_bytes: usize,
 }
 
 /// Every default the page shows or sends, defined once in the core.
@@ -143,6 +152,7 @@ pub fn defaults() -> Result<JsValue, JsError> {
         refit_baseline: BaselineModel::default(),
         b_stand_in: 1000.0,
         max_prediction: crate::lf_fit::DEFAULT_MAX_PREDICTION,
+        max_link_bytes: MAX_LINK_TEXT,
     })
 }
 
@@ -155,4 +165,12 @@ pub fn format_estimate(value: f64, sigma: Option<f64>) -> String {
         None => Estimate::exact(value),
     }
     .grouped()
+}
+
+/// One text cell of a CSV export (`spectrum::csv::text_cell`): a cell that a
+/// spreadsheet would read as a formula (`= + - @`) gets a leading `'`, and
+/// a cell with a comma, quote or line break is quoted.
+#[wasm_bindgen]
+pub fn csv_cell(text: &str) -> String {
+    crate::spectrum::csv::text_cell(text)
 }

@@ -54,8 +54,9 @@ test('a reload restores the workspace; Start fresh clears it', async () => {
   await page.waitForFunction(() => window.ddlens.state.lf, null, { timeout: 30000 });
   assert.deepEqual(await summary(page), original);
   await page.screenshot({ path: `${OUTPUT}/restored.png` });
+  page.once('dialog', (d) => d.accept()); // Start fresh asks first
   await page.locator('#start-fresh').click();
-  await page.waitForFunction(() => !window.ddlens.state.lf && window.ddlens.state.samples.length === 1);
+  await page.waitForFunction(() => !window.ddlens.state.lf && window.ddlens.state.samples.length === 0);
   assert.deepEqual(log.errors, []);
   await context.close();
 });

@@ -272,7 +272,7 @@ function exportCsv() {
   const shown = state.samples.filter((s) => s.visible).map((s) => ({ s, y: shownValues(s) })).filter((v) => v.y);
   if (!shown.length) { say('No visible spectrum to export.'); return; }
   const label = { a: 'absorbance', eps: 'epsilon_M-1cm-1', logeps: 'log_epsilon' }[state.view.yMode];
-  const quote = (t) => `"${String(t).replace(/"/g, '""')}"`;
+  const quote = (t) => wasm_bindgen.csv_cell(String(t)); // the core's text cell: formula starts neutralised
   const header = shown.flatMap(({ s }) => [quote(`${s.name} wavenumber_cm-1`), quote(`${s.name} wavelength_nm`), quote(`${s.name} ${label}`)]);
   const rows = [header.join(',')];
   const n = Math.max(...shown.map(({ s }) => s.wavenumber.length));

@@ -179,10 +179,13 @@ function bandRows() {
   return { name: s.name, rows: [head, ...rows] };
 }
 
+/** A number cell as it is; any other cell as the core's text cell (formula starts neutralised, quoted when needed). */
+const numberOrTextCell = (c) => (c !== '' && Number.isFinite(Number(c)) ? c : wasm_bindgen.csv_cell(String(c)));
+
 function exportBandsCsv() {
   const t = bandRows();
   if (!t) { say('Fit bands first: there is no band table to export.'); return; }
-  const quote = (c) => (/[",\n]/.test(c) ? `"${c.replace(/"/g, '""')}"` : c);
+  const quote = numberOrTextCell;
   download(new Blob([`${t.rows.map((r) => r.map(quote).join(',')).join('\n')}\n`], { type: 'text/csv' }), `${t.name.replace(/[^\w.-]+/g, '_')}-bands.csv`);
 }
 
@@ -190,7 +193,7 @@ async function copyBands() {
   const t = bandRows();
   if (!t) { say('Fit bands first: there is no band table to copy.'); return; }
   try {
-    await navigator.clipboard.writeText(`${t.rows.map((r) => r.join('\t')).join('\n')}\n`);
+    await navigator.clipboard.writeText(`${t.rows.map((r) => r.map(numberOrTextCell).join('\t')).join('\n')}\n`);
     say('Band table copied as tab-separated text.', 'info');
   } catch (e) {
     say(`The clipboard refused the table: ${e.message || e}`);

@@ -64,30 +64,62 @@ function wire() {
   window.addEventListener('resize', drawSoon);
 }
 
+/** At most `ms` for `promise`, then an error with `sentence` (no wait is unbounded). */
+const within = (promise, ms, sentence) => Promise.race([promise, new Promise((_, reject) => setTimeout(() => reject(new Error(sentence)), ms))]);
+
+/** The engine's exports on the main thread, each guarded: after a wasm trap
+ *  the broken instance is dropped and the cached module instantiated again,
+ *  and the caller gets a sentence instead of "unreachable". */
+function guardEngine() {
+  const sentence = 'The engine stopped on an internal error and was restarted; nothing of the workspace was lost. Please report what you did.';
+  for (const [name, f] of Object.entries(wasm_bindgen)) {
+    if (typeof f !== 'function' || name === 'forget' || name === 'initSync') continue;
+    wasm_bindgen[name] = function guarded(...args) {
+      try { return f.apply(this, args); } catch (e) {
+        if (!(e instanceof WebAssembly.RuntimeError)) throw e;
+        console.warn(`ddlens: wasm trap in ${name}: ${e.message}`);
+        wasm_bindgen.forget();
+        wasm_bindgen({ module_or_path: wasmModule }).catch((err) => say(`The engine could not be restarted (${err.message || err}): reload the page.`));
+        throw new Error(sentence);
+      }
+    };
+  }
+}
+
+/** A fresh compute worker from the cached module, bounded in its start-up. */
+async function restartWorker() {
+  if (worker) worker.terminate();
+  worker = startWorker(wasmModule);
+  await within(worker.ready, 60000, 'The compute worker did not start within a minute: reload the page.');
+}
+
 async function main() {
   wire();
   wasmModule = await loadModule();
   await wasm_bindgen({ module_or_path: wasmModule });
+  guardEngine();
   $('version').textContent = wasm_bindgen.version();
   DEFAULTS = wasm_bindgen.defaults();
   setCleaningDefaults();
   wireLf();
   wireReport();
-  worker = startWorker(wasmModule);
-  await worker.ready;
-  // A share link wins over the autosaved workspace, which wins over the demo.
-  let saved = null;
-  try { saved = localStorage.getItem(AUTOSAVE_KEY); } catch { saved = null; }
-  if (location.hash.startsWith('#project=')) {
-    try { await openShareLink(); } catch (e) { say(e.message); }
-  } else if (saved) {
-    try { await loadProject(saved); say('The previous workspace was restored (Start fresh clears it).', 'info'); } catch (e) { say(`The saved workspace could not be restored: ${e.message}`); }
-    if (!state.samples.length) await loadDemo();
-  } else {
-    await loadDemo();
-  }
+  wirePrivacy();
+  await restartWorker();
+  // The autosaved workspace first, then a share link over it (one undoable
+  // step, the autosave kept as the backup); the demo only on a first visit.
+  // Nothing is autosaved while the page starts: a failed load writes nothing.
+  const hadSaved = keepingWork() && await restoreAutosave();
   history.past = [];
+  let linked = false;
+  if (location.hash.startsWith('#project=')) {
+    try { await openShareLink(); linked = true; } catch (e) { say(e.message); }
+  } else if (!hadSaved) {
+    await loadDemo();
+    history.past = [];
+  }
   refresh();
+  autosave.held = false;
+  if (linked) autosaveSoon();
   document.body.dataset.readyMs = performance.now().toFixed(0);
   document.body.dataset.ready = 'true';
 }
@@ -98,4 +130,4 @@ const ready = main().catch((e) => {
 });
 
 /** What the tests and the console may reach: the page's state and a few actions. */
-const api = { ready, state, draw, figure, modelCurves, undo, redo, openFiles, analyzeSample, get worker() { return worker; } };
+const api = { ready, state, draw, figure, modelCurves, edit, undo, redo, openFiles, analyzeSample, restartWorker, get worker() { return worker; } };
