@@ -27,7 +27,7 @@ const app = [
   '',
 ].join('\n');
 const worker = read('www/worker.js');
-// The glue gains `forget()`: after a wasm trap the page and the worker drop
+// The glue gains `forget()`: after a wasm trap the worker drops
 // the broken instance and instantiate the cached module again (issue 20).
 const END = 'return Object.assign(__wbg_init, { initSync }, exports);';
 const rawGlue = read('dist/pkg/ddlens_glue.js');

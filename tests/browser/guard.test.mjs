@@ -192,6 +192,27 @@ test('the page keeps answering after the worker traps', async () => {
   await context.close();
 });
 
+test('a second tab never overwrites the first tab\'s later autosave silently', async () => {
+  const { context } = await openPage(browser, site.url);
+  const { page: first } = await editedWorkspace(context);
+  const second = await context.newPage();
+  await second.goto(site.url);
+  await second.waitForFunction(() => document.body.dataset.ready === 'true', null, WAIT);
+  // The first tab saves again: the second sees it and stops autosaving, and says so.
+  await first.evaluate(() => {
+    const s = window.ddlens.state.samples[0];
+    window.ddlens.edit(() => { s.doc = { ...s.doc, sample: { ...s.doc.sample, name: 'first tab, later' } }; });
+  });
+  await second.waitForFunction(() => /Another ddlens tab saved its workspace/.test(document.querySelector('#messages').innerText), null, WAIT);
+  await second.evaluate(() => {
+    const s = window.ddlens.state.samples[0];
+    window.ddlens.edit(() => { s.doc = { ...s.doc, sample: { ...s.doc.sample, name: 'second tab' } }; });
+  });
+  await second.waitForTimeout(600);
+  assert.deepEqual(savedNames(await autosaved(first)), ['first tab, later']);
+  await context.close();
+});
+
 test('CSV exports neutralise formula prefixes', async () => {
   const { context, page } = await openPage(browser, site.url);
   await page.evaluate(() => {

@@ -83,6 +83,13 @@ function previewBaseline() {
   drawSoon();
 }
 
+let previewTimer = null;
+/** The preview off the refresh path (every edit redraws the panel): computed 150 ms after the last call. */
+function previewBaselineSoon() {
+  clearTimeout(previewTimer);
+  previewTimer = setTimeout(previewBaseline, 150);
+}
+
 function renderCleanTargets() {
   const sel = $('clean-target');
   const current = Number(sel.value);
@@ -112,7 +119,7 @@ function showCleaning() {
   if (args.regions) $('baseline-regions').value = args.regions.map((r) => r.join('-')).join(', ');
   if (args.lambda != null) $('baseline-lambda').value = args.lambda;
   if (args.p != null) $('baseline-p').value = args.p;
-  previewBaseline();
+  previewBaselineSoon();
 }
 
 /** Applies the panel's steps (or none) to the selected sample through the core; one undoable edit. */

@@ -212,6 +212,8 @@ async function inflateLink(bytes) {
       throw new Error(`The share link unpacks to more than ${DEFAULTS.max_link_bytes / 1048576} MiB, more than any analysis the page writes into a link: nothing was loaded.`);
     }
     parts.push(value);
+    // Chunks arrive as microtasks: yield to the event loop every 4 MiB, so inflating is never one long task.
+    if (parts.length % 64 === 0) await new Promise((resolve) => setTimeout(resolve, 0));
   }
   const text = new Uint8Array(total);
   let at = 0;

@@ -67,25 +67,6 @@ function wire() {
 /** At most `ms` for `promise`, then an error with `sentence` (no wait is unbounded). */
 const within = (promise, ms, sentence) => Promise.race([promise, new Promise((_, reject) => setTimeout(() => reject(new Error(sentence)), ms))]);
 
-/** The engine's exports on the main thread, each guarded: after a wasm trap
- *  the broken instance is dropped and the cached module instantiated again,
- *  and the caller gets a sentence instead of "unreachable". */
-function guardEngine() {
-  const sentence = 'The engine stopped on an internal error and was restarted; nothing of the workspace was lost. Please report what you did.';
-  for (const [name, f] of Object.entries(wasm_bindgen)) {
-    if (typeof f !== 'function' || name === 'forget' || name === 'initSync') continue;
-    wasm_bindgen[name] = function guarded(...args) {
-      try { return f.apply(this, args); } catch (e) {
-        if (!(e instanceof WebAssembly.RuntimeError)) throw e;
-        console.warn(`ddlens: wasm trap in ${name}: ${e.message}`);
-        wasm_bindgen.forget();
-        wasm_bindgen({ module_or_path: wasmModule }).catch((err) => say(`The engine could not be restarted (${err.message || err}): reload the page.`));
-        throw new Error(sentence);
-      }
-    };
-  }
-}
-
 /** A fresh compute worker from the cached module, bounded in its start-up. */
 async function restartWorker() {
   if (worker) worker.terminate();
@@ -97,7 +78,6 @@ async function main() {
   wire();
   wasmModule = await loadModule();
   await wasm_bindgen({ module_or_path: wasmModule });
-  guardEngine();
   $('version').textContent = wasm_bindgen.version();
   DEFAULTS = wasm_bindgen.defaults();
   setCleaningDefaults();
