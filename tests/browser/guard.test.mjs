@@ -16,6 +16,11 @@ const autosaved = (page) => page.evaluate(() => localStorage.getItem('ddlens-wor
 const savedNames = (text) => JSON.parse(text).samples.map((d) => d.sample.name);
 const messages = (page) => page.locator('#messages').innerText();
 const b64url = (buf) => buf.toString('base64').replace(/\+/g, '-').replace(/\//g, '_').replace(/=+$/, '');
+/** A user edit through the undo history: the first sample gets a new name. */
+const rename = (page, name) => page.evaluate((n) => {
+  const s = window.ddlens.state.samples[0];
+  window.ddlens.edit(() => { s.doc = { ...s.doc, sample: { ...s.doc.sample, name: n } }; });
+}, name);
 /** A `#project=` link whose payload is `bytes` deflated (what the page's share link holds). */
 const linkOf = (bytes) => `${site.url}#project=${b64url(deflateRawSync(bytes))}`;
 
@@ -52,11 +57,7 @@ async function editedWorkspace(context) {
   const page = await context.newPage();
   await page.goto(site.url);
   await page.waitForFunction(() => document.body.dataset.ready === 'true', null, WAIT);
-  await page.evaluate(() => {
-    const s = window.ddlens.state.samples[0];
-    // A user edit through the undo history: the sample gets a new name.
-    window.ddlens.edit(() => { s.doc = { ...s.doc, sample: { ...s.doc.sample, name: 'my edited sample' } }; });
-  });
+  await rename(page, 'my edited sample');
   await page.waitForFunction(() => (localStorage.getItem('ddlens-workspace') || '').includes('my edited sample'), null, WAIT);
   return { page, saved: await autosaved(page) };
 }
@@ -88,10 +89,7 @@ test('a reload after loading a link keeps the later edits', async () => {
   await openFresh(page, link);
   assert.match(await messages(page), /Opened a shared analysis of 1 sample\./);
   assert.equal(new URL(page.url()).hash, '', 'the fragment is cleared once loaded');
-  await page.evaluate(() => {
-    const s = window.ddlens.state.samples[0];
-    window.ddlens.edit(() => { s.doc = { ...s.doc, sample: { ...s.doc.sample, name: 'edited after the link' } }; });
-  });
+  await rename(page, 'edited after the link');
   await page.waitForFunction(() => (localStorage.getItem('ddlens-workspace') || '').includes('edited after the link'), null, WAIT);
   await page.reload();
   await page.waitForFunction(() => document.body.dataset.ready === 'true', null, WAIT);
@@ -199,15 +197,9 @@ test('a second tab never overwrites the first tab\'s later autosave silently', a
   await second.goto(site.url);
   await second.waitForFunction(() => document.body.dataset.ready === 'true', null, WAIT);
   // The first tab saves again: the second sees it and stops autosaving, and says so.
-  await first.evaluate(() => {
-    const s = window.ddlens.state.samples[0];
-    window.ddlens.edit(() => { s.doc = { ...s.doc, sample: { ...s.doc.sample, name: 'first tab, later' } }; });
-  });
+  await rename(first, 'first tab, later');
   await second.waitForFunction(() => /Another ddlens tab saved its workspace/.test(document.querySelector('#messages').innerText), null, WAIT);
-  await second.evaluate(() => {
-    const s = window.ddlens.state.samples[0];
-    window.ddlens.edit(() => { s.doc = { ...s.doc, sample: { ...s.doc.sample, name: 'second tab' } }; });
-  });
+  await rename(second, 'second tab');
   await second.waitForTimeout(600);
   assert.deepEqual(savedNames(await autosaved(first)), ['first tab, later']);
   await context.close();
@@ -215,10 +207,7 @@ test('a second tab never overwrites the first tab\'s later autosave silently', a
 
 test('CSV exports neutralise formula prefixes', async () => {
   const { context, page } = await openPage(browser, site.url);
-  await page.evaluate(() => {
-    const s = window.ddlens.state.samples[0];
-    window.ddlens.edit(() => { s.doc = { ...s.doc, sample: { ...s.doc.sample, name: '=1+1' } }; });
-  });
+  await rename(page, '=1+1');
   const [download] = await Promise.all([page.waitForEvent('download', WAIT), page.locator('#export-csv').click()]);
   const text = await (await download.createReadStream()).toArray().then((parts) => Buffer.concat(parts).toString());
   const header = text.split('\n')[0];
