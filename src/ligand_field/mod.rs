@@ -15,6 +15,7 @@
 mod angular;
 mod determinants;
 mod diagram;
+mod eigen;
 pub mod field;
 mod model;
 mod site;

@@ -23,6 +23,7 @@
 use super::determinants::{
     cubic_field, fourfold_class_sum, matrix, ml, two_ms, Basis, Coulomb, OrbitRaise, SpinRaise,
 };
+use super::eigen::{self, Small};
 use super::{Geometry, Level, Params};
 use nalgebra::DMatrix;
 use std::sync::Mutex;
@@ -142,22 +143,29 @@ impl Block {
 
     /// The names of every level of the block (see [`Block::names`]), cached.
     pub fn all_names(&self, geometry: Geometry, parents: &[char]) -> Vec<(String, String, String)> {
-        let make = || {
+        self.with_names(geometry, parents, <[_]>::to_vec)
+    }
+
+    /// Calls `use_names` with the names of every level of the block, computed
+    /// only when the parent sequence differs from the last one asked for.
+    fn with_names<T>(
+        &self,
+        geometry: Geometry,
+        parents: &[char],
+        use_names: impl FnOnce(&[(String, String, String)]) -> T,
+    ) -> T {
+        let make = || -> Vec<_> {
             (0..parents.len())
                 .map(|k| self.names(geometry, parents, k))
                 .collect()
         };
         let Ok(mut cache) = self.names_cache.lock() else {
-            return make();
+            return use_names(&make());
         };
-        match cache.as_ref() {
-            Some((key, names)) if key == parents => names.clone(),
-            _ => {
-                let names: Vec<_> = make();
-                *cache = Some((parents.to_vec(), names.clone()));
-                names
-            }
+        if !matches!(cache.as_ref(), Some((key, _)) if key == parents) {
+            *cache = Some((parents.to_vec(), make()));
         }
+        use_names(cache.as_ref().map_or(&[][..], |(_, names)| names))
     }
 
     /// Number of levels (rows) of the block.
@@ -400,21 +408,10 @@ impl Model {
 
     /// Energies of every block, ascending within the block (no vectors kept).
     pub fn block_energies(&self, p: &Params) -> Vec<Vec<f64>> {
+        let mut values = [0.0; eigen::MAX];
         self.blocks
             .iter()
-            .map(|block| {
-                if block.size() == 1 {
-                    return vec![block.hamiltonian(p)[(0, 0)]];
-                }
-                let mut e: Vec<f64> = block
-                    .hamiltonian(p)
-                    .symmetric_eigenvalues()
-                    .iter()
-                    .copied()
-                    .collect();
-                e.sort_by(f64::total_cmp);
-                e
-            })
+            .map(|block| block.energies(p, &mut values).to_vec())
             .collect()
     }
 
@@ -425,40 +422,19 @@ impl Model {
 
     /// All levels, lowest first, energies and derivatives relative to the ground level.
     pub fn evaluate(&self, p: &Params) -> Vec<Level> {
-        let mut raw = Vec::new();
+        let count = self.blocks.iter().map(Block::size).sum();
+        let mut raw = Vec::with_capacity(count);
+        let mut parents = Vec::new();
+        let mut values = [0.0; eigen::MAX];
+        let mut vectors = Small::zeros(0);
         for block in &self.blocks {
-            let parents = block.parents(p);
-            let (values, vectors) = eigen_sorted(&block.hamiltonian(p));
-            let mut shares = vec![0.0; block.configurations.len()];
-            let mut names = block.all_names(self.geometry, &parents).into_iter();
-            for (k, (x, &energy)) in vectors.column_iter().zip(&values).enumerate() {
-                shares.fill(0.0);
-                let mut d_dq = 0.0;
-                for (i, &xi) in x.iter().enumerate() {
-                    shares[block.configuration_of_row[i]] += xi * xi;
-                    d_dq += block.v[(i, i)] * xi * xi;
+            block.parents_into(p, &mut parents);
+            let solved = block.eigenpairs(p, &mut values, &mut vectors);
+            block.with_names(self.geometry, &parents, |names| {
+                for (k, &energy) in values[..solved].iter().enumerate() {
+                    raw.push(block.level(k, energy, &vectors, &parents, names));
                 }
-                let (best, weight) = shares
-                    .iter()
-                    .enumerate()
-                    .max_by(|a, b| a.1.total_cmp(b.1))
-                    .map_or((0, 0.0), |(i, &w)| (i, w));
-                let (irrep, label, typeset) = names.next().unwrap_or_default();
-                raw.push(Level {
-                    energy,
-                    multiplicity: block.multiplicity,
-                    label,
-                    typeset,
-                    irrep,
-                    degeneracy: usize::from(block.multiplicity) * block.irrep.dimension(),
-                    parent: parents.get(k).copied().unwrap_or('?').to_string(),
-                    configuration: block.configurations.get(best).cloned().unwrap_or_default(),
-                    weight,
-                    d_dq,
-                    d_b: quadratic_form(&block.kb, x.as_slice()),
-                    d_c: quadratic_form(&block.kc, x.as_slice()),
-                });
-            }
+            });
         }
         raw.sort_by(|a, b| a.energy.total_cmp(&b.energy));
         if let Some(g) = raw.first().map(|l| [l.energy, l.d_dq, l.d_b, l.d_c]) {
@@ -481,31 +457,162 @@ impl Block {
         })
     }
 
+    /// H of this block in a stack buffer (blocks up to [`eigen::MAX`] rows).
+    fn small_hamiltonian(&self, p: &Params) -> Small {
+        let n = self.size();
+        let mut h = Small::zeros(n);
+        for i in 0..n {
+            for j in 0..n {
+                let value = self.kb[(i, j)] * p.b + self.kc[(i, j)] * p.c;
+                h.set(i, j, value);
+            }
+            h.a[i * eigen::MAX + i] += self.v[(i, i)] * p.dq;
+        }
+        h
+    }
+
+    /// The block's energies, ascending, in `values[..size]`.
+    fn energies<'a>(&self, p: &Params, values: &'a mut [f64; eigen::MAX]) -> &'a [f64] {
+        let n = self.size();
+        if n > eigen::MAX || !eigen::solve(&mut self.small_hamiltonian(p), values, None) {
+            let (all, _) = eigen_sorted(&self.hamiltonian(p));
+            return Self::fallback(&all, values, None);
+        }
+        &values[..n]
+    }
+
+    /// The block's energies ascending and their eigenvectors as the columns of
+    /// `vectors`; returns the number of levels.
+    fn eigenpairs(&self, p: &Params, values: &mut [f64; eigen::MAX], vectors: &mut Small) -> usize {
+        let n = self.size();
+        if n > eigen::MAX || !eigen::solve(&mut self.small_hamiltonian(p), values, Some(vectors)) {
+            let (all, x) = eigen_sorted(&self.hamiltonian(p));
+            return Self::fallback(&all, values, Some((&x, vectors))).len();
+        }
+        n
+    }
+
+    /// Copies a dense solution into the stack buffers (only `MAX` levels fit:
+    /// never reached by the cubic blocks of d1…d9, whose largest has 10 rows).
+    fn fallback<'a>(
+        all: &[f64],
+        values: &'a mut [f64; eigen::MAX],
+        vectors: Option<(&DMatrix<f64>, &mut Small)>,
+    ) -> &'a [f64] {
+        let kept = all.len().min(eigen::MAX);
+        values[..kept].copy_from_slice(&all[..kept]);
+        if let Some((x, out)) = vectors {
+            *out = Small::zeros(kept);
+            for i in 0..kept {
+                for j in 0..kept {
+                    out.set(i, j, x[(i, j)]);
+                }
+            }
+        }
+        &values[..kept]
+    }
+
+    /// The k-th level of the block from its eigenvector (column k of `vectors`).
+    fn level(
+        &self,
+        k: usize,
+        energy: f64,
+        vectors: &Small,
+        parents: &[char],
+        names: &[(String, String, String)],
+    ) -> Level {
+        let n = self.size().min(eigen::MAX);
+        let mut x = [0.0; eigen::MAX];
+        for (i, xi) in x[..n].iter_mut().enumerate() {
+            *xi = vectors.at(i, k);
+        }
+        let x = &x[..n];
+        let mut shares = [0.0; eigen::MAX];
+        let mut d_dq = 0.0;
+        for (i, &xi) in x.iter().enumerate() {
+            shares[self.configuration_of_row[i]] += xi * xi;
+            d_dq += self.v[(i, i)] * xi * xi;
+        }
+        let (best, weight) = shares[..self.configurations.len().min(eigen::MAX)]
+            .iter()
+            .enumerate()
+            .max_by(|a, b| a.1.total_cmp(b.1))
+            .map_or((0, 0.0), |(i, &w)| (i, w));
+        let (irrep, label, typeset) = names.get(k).cloned().unwrap_or_default();
+        Level {
+            energy,
+            multiplicity: self.multiplicity,
+            label,
+            typeset,
+            irrep,
+            degeneracy: usize::from(self.multiplicity) * self.irrep.dimension(),
+            parent: parents.get(k).copied().unwrap_or('?').to_string(),
+            configuration: self.configurations.get(best).cloned().unwrap_or_default(),
+            weight,
+            d_dq,
+            d_b: quadratic_form(&self.kb, x),
+            d_c: quadratic_form(&self.kc, x),
+        }
+    }
+
     /// Parent-term letters of this block's levels in eigen-order. Levels of one
     /// (S, Γ) block never cross, so the k-th level connects with the k-th free-ion
     /// level of the block: the eigenvalues of B·K_B + C·K_C on each L² eigenspace,
     /// sorted. When two different terms of the block coincide at this (B, C), the
     /// order is decided by following the levels to a tiny Dq of the same sign.
     pub fn parents(&self, p: &Params) -> Vec<char> {
-        let mut free: Vec<(f64, char)> = Vec::with_capacity(self.size());
+        let mut out = Vec::with_capacity(self.size());
+        self.parents_into(p, &mut out);
+        out
+    }
+
+    /// [`Block::parents`] into a reused buffer.
+    fn parents_into(&self, p: &Params, out: &mut Vec<char>) {
+        out.clear();
+        let mut free = [(0.0, '?'); eigen::MAX];
+        let mut count = 0;
+        let mut values = [0.0; eigen::MAX];
         for term in &self.terms {
-            if term.kb.nrows() == 1 {
-                free.push((term.kb[(0, 0)] * p.b + term.kc[(0, 0)] * p.c, term.letter));
-                continue;
+            let n = term.kb.nrows();
+            let mut h = Small::zeros(n);
+            for i in 0..n {
+                for j in 0..n {
+                    h.set(i, j, term.kb[(i, j)] * p.b + term.kc[(i, j)] * p.c);
+                }
             }
-            let h = DMatrix::from_fn(term.kb.nrows(), term.kb.ncols(), |i, j| {
-                term.kb[(i, j)] * p.b + term.kc[(i, j)] * p.c
-            });
-            free.extend(h.symmetric_eigenvalues().iter().map(|&e| (e, term.letter)));
+            let solved = if n == 1 {
+                values[0] = h.at(0, 0);
+                true
+            } else {
+                n <= eigen::MAX && eigen::solve(&mut h, &mut values, None)
+            };
+            if !solved {
+                return self.parents_by_following(p, out);
+            }
+            for &e in &values[..n] {
+                if let Some(slot) = free.get_mut(count) {
+                    *slot = (e, term.letter);
+                    count += 1;
+                }
+            }
         }
+        let free = &mut free[..count];
         free.sort_by(|a, b| a.0.total_cmp(&b.0));
         let scale = p.b.abs().max(p.c.abs()).max(1.0);
         let tied = free
             .windows(2)
             .any(|w| w[0].1 != w[1].1 && w[1].0 - w[0].0 < 1e-7 * scale);
-        if !tied {
-            return free.into_iter().map(|(_, letter)| letter).collect();
+        if tied {
+            return self.parents_by_following(p, out);
         }
+        out.extend(free.iter().map(|&(_, letter)| letter));
+    }
+
+    /// Parents found by following the levels to a tiny Dq of the sign of `p.dq`
+    /// and reading the largest L² component of each state.
+    fn parents_by_following(&self, p: &Params, out: &mut Vec<char>) {
+        out.clear();
+        let scale = p.b.abs().max(p.c.abs()).max(1.0);
         let direction = if p.dq < 0.0 { -1.0 } else { 1.0 };
         let weak = Params {
             dq: direction * 1e-4 * scale,
@@ -513,16 +620,13 @@ impl Block {
             c: p.c,
         };
         let (_, vectors) = eigen_sorted(&self.hamiltonian(&weak));
-        vectors
-            .column_iter()
-            .map(|x| {
-                self.terms
-                    .iter()
-                    .map(|t| (t.letter, (t.basis.transpose() * x).norm_squared()))
-                    .max_by(|a, b| a.1.total_cmp(&b.1))
-                    .map_or('?', |(letter, _)| letter)
-            })
-            .collect()
+        out.extend(vectors.column_iter().map(|x| {
+            self.terms
+                .iter()
+                .map(|t| (t.letter, (t.basis.transpose() * x).norm_squared()))
+                .max_by(|a, b| a.1.total_cmp(&b.1))
+                .map_or('?', |(letter, _)| letter)
+        }));
     }
 }
 
