@@ -8,11 +8,23 @@ use crate::bands::{BaselineModel, Shape};
 use crate::preprocess::BaselineMethod;
 use serde::Serialize;
 
-/// Allowance for the band-shape model in a band maximum's uncertainty, as a
-/// fraction of its energy, added in quadrature to the fitted σ (common
-/// practice: maxima of broad d–d bands are rarely reproducible to better than
-/// about 0.5–1 %).
-pub const POSITION_ALLOWANCE: f64 = 0.005;
+/// Floor of a band maximum's uncertainty for the ligand-field fit, as a
+/// fraction of its energy, added in quadrature to the σ of the centre from the
+/// deconvolution's covariance: an allowance for the band-shape model (a
+/// symmetric shape fitted to a skewed band puts its centre off the maximum;
+/// common practice: maxima of broad d–d bands are rarely reproducible to
+/// better than a few tenths of a per cent).
+pub const POSITION_ALLOWANCE: f64 = 0.002;
+
+/// A band is assigned only when its height is at least this many noise σ
+/// (common practice: a feature under about 3σ is not a detection).
+pub const SIGNIFICANT_HEIGHT: f64 = 3.0;
+
+/// A band is assigned only when its area is at least this fraction of the
+/// strongest band's. Low, because a spin-forbidden line is both weak and
+/// narrow: a ²E line 150 cm⁻¹ wide at 4 % of the height of a 2 800 cm⁻¹ band
+/// has 0.2 % of its area (CALC, the sharp-line case of the hard cases).
+pub const SIGNIFICANT_AREA: f64 = 0.001;
 
 /// How far (as a fraction of its energy) a user's choice may lie from the band
 /// it is matched to.
@@ -81,6 +93,13 @@ pub struct Defaults {
     pub position_allowance: f64,
     pub choice_match: f64,
     pub narrow_band: f64,
+    /// Significance test: least height in noise σ, least area as a fraction
+    /// of the strongest band, least data spacings per FWHM.
+    pub significant_height: f64,
+    pub significant_area: f64,
+    pub min_points_per_fwhm: f64,
+    /// Band count: a BIC within this of the lowest counts as as good, and the smaller count wins.
+    pub bic_margin: f64,
     pub auto_bands: usize,
     pub max_auto_bands: usize,
     pub max_bands: usize,
@@ -102,6 +121,10 @@ impl Defaults {
             position_allowance: POSITION_ALLOWANCE,
             choice_match: CHOICE_MATCH,
             narrow_band: NARROW_BAND,
+            significant_height: SIGNIFICANT_HEIGHT,
+            significant_area: SIGNIFICANT_AREA,
+            min_points_per_fwhm: crate::bands::MIN_POINTS_PER_FWHM,
+            bic_margin: crate::bands::BIC_MARGIN,
             auto_bands: AUTO_BANDS,
             max_auto_bands: MAX_AUTO_BANDS,
             max_bands: MAX_BANDS,

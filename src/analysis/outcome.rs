@@ -1,0 +1,124 @@
+//! What an analysis came to, as a kind and a plain sentence: the parameters
+//! were fitted; no d–d band stands above the noise (no fit is made, no number
+//! given); every assigned band is spin-forbidden; or the bands leave a
+//! parameter undetermined (which one, held at what).
+
+use crate::lf_fit::{FitOutcome, Solution};
+use crate::spectrum::noise::Noise;
+use crate::spectrum::Quantity;
+use serde::{Deserialize, Serialize};
+
+/// The kind of result an analysis with a ligand-field request reached.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Outcome {
+    /// The bands were assigned and the parameters fitted (`fit.best`).
+    Assigned,
+    /// No band passed the significance test: no fit was made.
+    NoDdBands,
+    /// Every assigned band is spin-forbidden (the fit is kept).
+    NoSpinAllowedBands,
+    /// Fewer independent bands than parameters: one was held (the fit is kept).
+    Underdetermined,
+}
+
+/// A parameter the bands cannot determine, held at a value.
+#[derive(Debug, Clone, PartialEq)]
+pub struct HeldParameter {
+    pub parameter: String,
+    pub value: f64,
+}
+
+/// The parameters a solution held because its bands cannot determine them.
+///
+/// Read from the solution itself: B is held when only Dq was fitted although
+/// B enters the bands (one band of a dⁿ other than d¹/d⁹). The one place to
+/// repoint when the solution lists what it held.
+pub fn held_parameters(best: &Solution) -> Vec<HeldParameter> {
+    let only_dq = best.free.len() == 1;
+    match (&best.parameters.b, only_dq) {
+        (Some(b), true) => vec![HeldParameter {
+            parameter: "B".into(),
+            value: b.value,
+        }],
+        _ => Vec::new(),
+    }
+}
+
+/// Every band the best solution assigns goes to a spin-forbidden state.
+fn only_spin_forbidden(best: &Solution) -> bool {
+    let allowed = |state: &str| {
+        best.predicted
+            .iter()
+            .find(|p| p.state == state)
+            .is_none_or(|p| p.spin_allowed)
+    };
+    !best.assignment.is_empty() && !best.assignment.iter().any(|a| allowed(&a.state))
+}
+
+/// σ of the noise with two significant figures and the data's unit.
+fn noise_text(noise: &Noise, quantity: Quantity) -> String {
+    let unit = match quantity {
+        Quantity::Absorbance => " A",
+        Quantity::MolarAbsorptivity => " L mol⁻¹ cm⁻¹",
+        Quantity::PercentTransmittance => " %T",
+        _ => "",
+    };
+    format!(
+        "{}{unit}",
+        crate::estimate::Estimate::exact(noise.sigma).grouped()
+    )
+}
+
+/// The outcome and its sentence, from the fit (when one was made), the number
+/// of bands that passed the significance test and the noise. `None` when a
+/// fit was asked for but failed (its error says why).
+pub fn outcome_of(
+    fit: Option<&FitOutcome>,
+    assignable: usize,
+    noise: Option<&Noise>,
+    quantity: Quantity,
+) -> Option<(Outcome, String)> {
+    if assignable == 0 {
+        let text = match noise {
+            Some(n) => format!(
+                "No d–d band found above the noise (σ ≈ {}).",
+                noise_text(n, quantity)
+            ),
+            None => "No d–d band found in the measured range.".to_string(),
+        };
+        return Some((Outcome::NoDdBands, text));
+    }
+    let best = &fit?.best;
+    let bands = best.assignment.len();
+    let plural = if bands == 1 { "" } else { "s" };
+    let held = held_parameters(best);
+    if only_spin_forbidden(best) {
+        return Some((
+            Outcome::NoSpinAllowedBands,
+            format!(
+                "Every assigned band is spin-forbidden ({bands} band{plural}): no spin-allowed band was found, and the parameters rest on the spin-forbidden bands alone."
+            ),
+        ));
+    }
+    if !held.is_empty() {
+        let list: Vec<String> = held
+            .iter()
+            .map(|h| format!("{} was held at {:.0} cm⁻¹", h.parameter, h.value))
+            .collect();
+        return Some((
+            Outcome::Underdetermined,
+            format!(
+                "{bands} band{plural} cannot determine every parameter: {}.",
+                list.join(", ")
+            ),
+        ));
+    }
+    Some((
+        Outcome::Assigned,
+        format!(
+            "{bands} band{plural} assigned; {} fitted.",
+            best.free.join(", ")
+        ),
+    ))
+}
