@@ -47,8 +47,13 @@ pub const MIN_FIT_POINTS: usize = 8;
 pub const MAX_ITERATIONS: usize = 200;
 
 /// The baselines tried under the bands when none is given (lower BIC wins).
-pub const BASELINE_CANDIDATES: [BaselineModel; 2] =
-    [BaselineModel::Linear, BaselineModel::Scattering];
+/// The charge-transfer tail is one of them so that a charge-transfer band
+/// rising into the UV end is taken up by the baseline, not by d–d bands.
+pub const BASELINE_CANDIDATES: [BaselineModel; 3] = [
+    BaselineModel::Linear,
+    BaselineModel::Scattering,
+    BaselineModel::ChargeTransferTail,
+];
 
 /// Savitzky–Golay smoothing defaults: window (points, odd) and polynomial order.
 pub const SMOOTH_WINDOW: usize = 11;

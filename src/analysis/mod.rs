@@ -33,7 +33,7 @@
 //! - when there are more bands than the model has transitions, the highest
 //!   unforced band is set aside as not d–d (assumed charge transfer), one at
 //!   a time; when every band left is forced, the fit stops with a reason;
-//! - unless a baseline is given, a linear and a scattering (Rayleigh-like,
+//! - unless a baseline is given, a linear, a charge-transfer tail and a scattering (Rayleigh-like,
 //!   a + b·ν̃ⁿ with n free) baseline are both tried and the lower BIC wins
 //!   (common practice: glasses, powders and turbid solutions scatter; left as
 //!   a straight line, the curvature is taken up by small spurious bands at the

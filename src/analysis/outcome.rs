@@ -56,7 +56,7 @@ fn only_spin_forbidden(best: &Solution) -> bool {
     !best.assignment.is_empty() && !best.assignment.iter().any(|a| allowed(&a.state))
 }
 
-/// σ of the noise with two significant figures and the data's unit.
+/// σ of the noise with two significant figures (a plain decimal) and the data's unit.
 fn noise_text(noise: &Noise, quantity: Quantity) -> String {
     let unit = match quantity {
         Quantity::Absorbance => " A",

@@ -14,8 +14,10 @@
 //!   *JASA* 90, 773–795, table of 2 ln B), a BIC difference up to 6 is at
 //!   most "positive" evidence, above 6 "strong"; one more band must earn
 //!   strong evidence.
-//! - The search stops after [`PATIENCE`] counts in a row that do not lower
-//!   the lowest BIC.
+//! - The search stops at the first count that does not lower the lowest BIC
+//!   by more than [`BIC_MARGIN`] (it could not be recommended over the
+//!   smaller one); grown from the residual, each real band lowers it by far
+//!   more.
 
 use super::fit::{data_spacing, fit, validate};
 use super::guess::residual_band;
@@ -28,8 +30,8 @@ use super::{
 pub const BIC_MARGIN: f64 = 6.0;
 /// A band must span this many data spacings at half height to count as resolved.
 pub const MIN_POINTS_PER_FWHM: f64 = 3.0;
-/// Counts in a row without a lower BIC after which the search stops.
-const PATIENCE: usize = 2;
+/// Counts in a row without a BIC lower by [`BIC_MARGIN`] after which the search stops.
+const PATIENCE: usize = 1;
 
 /// One fitted count: the count, its BIC, whether it may be recommended, the fit.
 struct Tried {
@@ -72,6 +74,8 @@ impl Problem<'_> {
         let extra = residual_band(self.x, &residual, self.spacing * MIN_POINTS_PER_FWHM)?;
         let mut bands = super::model_of(prev).bands;
         bands.push(extra);
+        // Ascending centres, as a fresh start lists them (the band table's order).
+        bands.sort_by(|a, b| a.centre.total_cmp(&b.centre));
         Some(bands)
     }
 
@@ -136,11 +140,12 @@ pub fn select_band_count(
                 let Some(bic) = f.statistics.bic else {
                     continue;
                 };
-                if bic < lowest {
-                    (lowest, stale) = (bic, 0);
+                if bic < lowest - BIC_MARGIN {
+                    stale = 0;
                 } else {
                     stale += 1;
                 }
+                lowest = lowest.min(bic);
                 let eligible = problem.resolves(&f);
                 tried.push(Tried {
                     n,

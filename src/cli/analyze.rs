@@ -177,12 +177,7 @@ fn report(doc: &Document) -> Result<String, CliError> {
         i.x_range_cm[1]
     );
     if let Some(n) = &analysis.noise {
-        outln!(
-            out,
-            "noise σ ≈ {} ({})",
-            ddlens::estimate::Estimate::exact(n.sigma).grouped(),
-            n.method
-        );
+        outln!(out, "noise σ ≈ {:.2e} ({})", n.sigma, n.method);
     }
     outln!(out, "bands ({}):", analysis.bands.fit.bands.len());
     for b in &analysis.bands.fit.bands {
