@@ -55,6 +55,18 @@ pub const BASELINE_CANDIDATES: [BaselineModel; 3] = [
     BaselineModel::ChargeTransferTail,
 ];
 
+/// AsLS baseline defaults: λ (per [`crate::preprocess::REFERENCE_POINTS`]
+/// points) and the asymmetry p. The Whittaker penalty follows features of
+/// about λ^¼ points; d–d bands are thousands of cm⁻¹ wide, a hundred or more
+/// points of a typical spectrum, so λ sits at the stiff end and p at the low
+/// end of the ranges Eilers & Boelens (2005, "Baseline correction with
+/// asymmetric least squares smoothing") suggest, 10² ≤ λ ≤ 10⁹ and
+/// 0.001 ≤ p ≤ 0.1.
+pub const ASLS_LAMBDA: f64 = 1e9;
+pub const ASLS_P: f64 = 0.001;
+/// arPLS baseline default λ, per the same reference point count (as stiff as AsLS's).
+pub const ARPLS_LAMBDA: f64 = 1e9;
+
 /// Savitzky–Golay smoothing defaults: window (points, odd) and polynomial order.
 pub const SMOOTH_WINDOW: usize = 11;
 pub const SMOOTH_ORDER: usize = 2;
@@ -145,10 +157,12 @@ impl Defaults {
                     },
                     BaselineMethod::RubberBand,
                     BaselineMethod::Asls {
-                        lambda: 1e5,
-                        p: 0.01,
+                        lambda: ASLS_LAMBDA,
+                        p: ASLS_P,
                     },
-                    BaselineMethod::Arpls { lambda: 1e5 },
+                    BaselineMethod::Arpls {
+                        lambda: ARPLS_LAMBDA,
+                    },
                     BaselineMethod::Scattering { exponent: None },
                 ],
             },
@@ -176,6 +190,36 @@ mod tests {
         let v = serde_json::to_value(Defaults::get()).unwrap();
         assert_eq!(v["palette"][0], "#0072b2");
         assert_eq!(v["palette"][1], "#d55e00");
+    }
+
+    /// The default AsLS and arPLS baselines under a 3 000 cm⁻¹ band on a
+    /// sloping line (1 000 points over 10 000–30 000 cm⁻¹) stay near the line:
+    /// at the band maximum within 10 % of the band height (the former
+    /// λ = 10⁵, p = 0.01 followed the band to about half its height).
+    #[test]
+    fn the_default_whittaker_baselines_do_not_follow_a_band_thousands_of_wavenumbers_wide() {
+        let x: Vec<f64> = (0..1000).map(|i| 10_000.0 + 20.0 * f64::from(i)).collect();
+        let line = |v: f64| 0.1 + 2e-6 * (v - 10_000.0);
+        let y: Vec<f64> = x
+            .iter()
+            .map(|&v| {
+                line(v) + (-4.0 * std::f64::consts::LN_2 * ((v - 20_000.0) / 3000.0).powi(2)).exp()
+            })
+            .collect();
+        for method in &Defaults::get().cleaning.baselines {
+            if !matches!(
+                method,
+                BaselineMethod::Asls { .. } | BaselineMethod::Arpls { .. }
+            ) {
+                continue;
+            }
+            let b = crate::preprocess::baseline(&x, &y, method).unwrap();
+            let at_peak = b[500] - line(x[500]);
+            assert!(
+                at_peak.abs() < 0.1,
+                "{method:?}: {at_peak} above the line at the maximum"
+            );
+        }
     }
 
     #[test]

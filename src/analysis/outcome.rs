@@ -32,8 +32,9 @@ pub struct HeldParameter {
 /// The parameters a solution held because its bands cannot determine them.
 ///
 /// Read from the solution itself: B is held when only Dq was fitted although
-/// B enters the bands (one band of a dⁿ other than d¹/d⁹). The one place to
-/// repoint when the solution lists what it held.
+/// B enters the band (one band of a dⁿ other than d¹/d⁹ whose energy depends
+/// on B; a B-independent band such as ν1 = 10Dq of Ni²⁺ leaves B out of the
+/// result instead). The one place to repoint when the solution lists what it held.
 pub fn held_parameters(best: &Solution) -> Vec<HeldParameter> {
     let only_dq = best.free.len() == 1;
     match (&best.parameters.b, only_dq) {
@@ -64,10 +65,8 @@ fn noise_text(noise: &Noise, quantity: Quantity) -> String {
         Quantity::PercentTransmittance => " %T",
         _ => "",
     };
-    format!(
-        "{}{unit}",
-        crate::estimate::Estimate::exact(noise.sigma).grouped()
-    )
+    let decimals = (1.0 - noise.sigma.log10().floor()).clamp(0.0, 15.0) as usize;
+    format!("{:.decimals$}{unit}", noise.sigma)
 }
 
 /// The outcome and its sentence, from the fit (when one was made), the number
@@ -121,4 +120,67 @@ pub fn outcome_of(
             best.free.join(", ")
         ),
     ))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::lf_fit::{self, FitRequest, ObservedBand};
+
+    fn fit(ion: &str, bands: &[(f64, Option<&str>)]) -> FitOutcome {
+        lf_fit::fit(&FitRequest {
+            ion: Some(ion.into()),
+            bands: bands
+                .iter()
+                .map(|&(e, state)| ObservedBand {
+                    assign: state.map(String::from),
+                    ..ObservedBand::at(e)
+                })
+                .collect(),
+            spin_forbidden: true,
+            ..FitRequest::default()
+        })
+        .unwrap()
+    }
+
+    #[test]
+    fn one_nickel_band_that_depends_on_b_leaves_b_held_and_says_so() {
+        // ν2 of [Ni(H₂O)₆]²⁺ alone (13 800 cm⁻¹, from memory): ³T₁g(F) depends on
+        // Dq and B, so one band cannot fix both.
+        let o = fit("Ni2+", &[(13_800.0, Some("3T1g(F)"))]);
+        let (kind, text) = outcome_of(Some(&o), 1, None, Quantity::Absorbance).unwrap();
+        assert_eq!(kind, Outcome::Underdetermined);
+        assert!(text.contains("B was held at"), "{text}");
+    }
+
+    #[test]
+    fn manganese_bands_forced_onto_quartets_are_only_spin_forbidden() {
+        // [Mn(H₂O)₆]²⁺: 18 900 ⁴T₁g(G), 23 100 ⁴T₂g(G), 25 000 ⁴A₁g/⁴Eg(G)
+        // (from memory, standard inorganic texts); from the ⁶A₁g ground every
+        // quartet is spin-forbidden.
+        let o = fit(
+            "Mn2+",
+            &[
+                (18_900.0, Some("4T1g(G)")),
+                (23_100.0, Some("4T2g(G)")),
+                (25_000.0, Some("4A1g")),
+            ],
+        );
+        let (kind, _) = outcome_of(Some(&o), 3, None, Quantity::Absorbance).unwrap();
+        assert_eq!(kind, Outcome::NoSpinAllowedBands);
+    }
+
+    #[test]
+    fn no_assignable_band_gives_the_noise_with_two_significant_figures() {
+        let noise = Noise {
+            sigma: 0.002_153,
+            points: 800,
+            method: METHOD_FOR_TESTS.into(),
+        };
+        let (kind, text) = outcome_of(None, 0, Some(&noise), Quantity::Absorbance).unwrap();
+        assert_eq!(kind, Outcome::NoDdBands);
+        assert_eq!(text, "No d–d band found above the noise (σ ≈ 0.0022 A).");
+    }
+
+    const METHOD_FOR_TESTS: &str = crate::spectrum::noise::METHOD;
 }
