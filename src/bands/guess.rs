@@ -17,13 +17,7 @@ use nalgebra::{DMatrix, DVector};
 /// Starting bands (Gaussian) for `n` bands, or as many as the data suggest.
 /// Returns an empty list when the data are too short or not finite.
 pub fn guess(x: &[f64], y: &[f64], n: Option<usize>) -> Vec<BandSpec> {
-    let mut pts: Vec<(f64, f64)> = x
-        .iter()
-        .copied()
-        .zip(y.iter().copied())
-        .filter(|(a, b)| a.is_finite() && b.is_finite())
-        .collect();
-    pts.sort_by(|a, b| a.0.total_cmp(&b.0));
+    let mut pts = finite_sorted(x, y);
     pts.dedup_by(|a, b| a.0.total_cmp(&b.0).is_eq()); // exactly repeated x only
     if pts.len() < 7 || n == Some(0) {
         return Vec::new();
@@ -125,13 +119,7 @@ const RESIDUAL_WINDOW: usize = 5;
 /// what a second-derivative start smooths away: a sharp line, the weaker half
 /// of a close pair. `None` when no residual is positive.
 pub fn residual_band(x: &[f64], r: &[f64], min_fwhm: f64) -> Option<BandSpec> {
-    let mut pts: Vec<(f64, f64)> = x
-        .iter()
-        .zip(r)
-        .filter(|(a, b)| a.is_finite() && b.is_finite())
-        .map(|(a, b)| (*a, *b))
-        .collect();
-    pts.sort_by(|a, b| a.0.total_cmp(&b.0));
+    let pts = finite_sorted(x, r);
     let m = pts.len();
     if m < RESIDUAL_WINDOW {
         return None;
@@ -173,6 +161,18 @@ pub fn residual_band(x: &[f64], r: &[f64], min_fwhm: f64) -> Option<BandSpec> {
         extra: None,
         fixed: Vec::new(),
     })
+}
+
+/// The finite (x, y) pairs in ascending x.
+fn finite_sorted(x: &[f64], y: &[f64]) -> Vec<(f64, f64)> {
+    let mut pts: Vec<(f64, f64)> = x
+        .iter()
+        .copied()
+        .zip(y.iter().copied())
+        .filter(|(a, b)| a.is_finite() && b.is_finite())
+        .collect();
+    pts.sort_by(|a, b| a.0.total_cmp(&b.0));
+    pts
 }
 
 fn span_of(pts: &[(f64, f64)]) -> f64 {

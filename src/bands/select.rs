@@ -205,20 +205,16 @@ mod tests {
             .collect()
     }
 
+    fn up_to_six(x: &[f64], y: &[f64]) -> BandCountReport {
+        let opts = FitOptions::default();
+        select_band_count(x, y, None, 6, Shape::Gaussian, BaselineModel::Linear, &opts).unwrap()
+    }
+
     #[test]
     fn flat_noise_is_given_no_band() {
         let x: Vec<f64> = (0..400).map(|i| 12_000.0 + 25.0 * f64::from(i)).collect();
         let y: Vec<f64> = noise(3, x.len()).iter().map(|e| 0.01 + 0.002 * e).collect();
-        let r = select_band_count(
-            &x,
-            &y,
-            None,
-            6,
-            Shape::Gaussian,
-            BaselineModel::Linear,
-            &FitOptions::default(),
-        )
-        .unwrap();
+        let r = up_to_six(&x, &y);
         assert_eq!(r.recommended, 0, "BIC per count {:?}", r.bic);
         assert!(r.best.bands.is_empty());
     }
@@ -233,16 +229,7 @@ mod tests {
             .zip(noise(5, x.len()))
             .map(|(&v, e)| 0.3 * g(v, 13_000.0, 2500.0) + 0.2 * g(v, 21_000.0, 3000.0) + 0.002 * e)
             .collect();
-        let r = select_band_count(
-            &x,
-            &y,
-            None,
-            6,
-            Shape::Gaussian,
-            BaselineModel::Linear,
-            &FitOptions::default(),
-        )
-        .unwrap();
+        let r = up_to_six(&x, &y);
         assert_eq!(r.recommended, 2, "BIC per count {:?}", r.bic);
     }
 }
