@@ -28,6 +28,10 @@ const DRAWS: u64 = 50;
 struct Run {
     fit: Result<FitOutcome, String>,
     centres: Vec<Estimate>,
+    /// `results.outcome` as JSON spells it, or "—".
+    outcome: String,
+    /// The fitted bands, "centre/FWHM" with the reason when left out.
+    bands: Vec<String>,
 }
 
 /// The one call into the automatic analysis (as `ddlens analyze --ion … --geometry …`
@@ -56,16 +60,37 @@ fn analyze(case: &Case) -> Run {
         Err(e) => Run {
             fit: Err(format!("analysis failed: {e}")),
             centres: Vec::new(),
+            outcome: "—".into(),
+            bands: Vec::new(),
         },
         Ok(None) => Run {
             fit: Err("the analysis gave no results".into()),
             centres: Vec::new(),
+            outcome: "—".into(),
+            bands: Vec::new(),
         },
         Ok(Some(r)) => Run {
             centres: r.bands.fit.bands.iter().map(|b| b.centre).collect(),
-            fit: r
+            outcome: r.outcome.map_or("—".into(), |o| {
+                serde_json::to_value(o).map_or("?".into(), |v| v.as_str().unwrap_or("?").into())
+            }),
+            bands: r
+                .bands
                 .fit
-                .ok_or_else(|| r.fit_error.unwrap_or_else(|| "no fit, no reason".into())),
+                .bands
+                .iter()
+                .map(|b| {
+                    let why = b.left_out.map_or(String::new(), |w| {
+                        format!(" left out: {}", serde_json::to_value(w).unwrap_or_default())
+                    });
+                    format!("{:.0}/{:.0}{why}", b.centre.value, b.fwhm.value)
+                })
+                .collect(),
+            fit: r.fit.ok_or_else(|| {
+                r.fit_error
+                    .or(r.outcome_text)
+                    .unwrap_or_else(|| "no fit, no reason".into())
+            }),
         },
     }
 }
@@ -141,6 +166,7 @@ fn case_table(cases: &[Case]) {
         "| case | truth 10Dq | truth B | 10Dq ± σ | B ± σ | error 10Dq | error B | truth in (10Dq) | truth in (B) | assignment | truth assignment | outcome |"
     );
     println!("|---|---|---|---|---|---|---|---|---|---|---|---|");
+    let mut bands = Vec::new();
     for case in cases {
         let run = analyze(case);
         let t = &case.truth;
@@ -168,8 +194,18 @@ fn case_table(cases: &[Case]) {
             td.map_or("none".into(), |v| format!("{v:.0}")),
             tb.map_or("—".into(), |v| format!("{v:.0}")),
             cells.join(" | "),
-            format_args!("{} | {}", truth_states.join(" "), outcome(&run.fit))
+            format_args!(
+                "{} | {}: {}",
+                truth_states.join(" "),
+                run.outcome,
+                outcome(&run.fit)
+            )
         );
+        bands.push(format!("- {}: {}", case.name, run.bands.join(", ")));
+    }
+    println!("\nFitted bands (centre/FWHM cm⁻¹; left out of the assignment where marked):\n");
+    for line in &bands {
+        println!("{line}");
     }
     println!();
     for case in cases {

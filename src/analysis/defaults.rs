@@ -8,11 +8,23 @@ use crate::bands::{BaselineModel, Shape};
 use crate::preprocess::BaselineMethod;
 use serde::Serialize;
 
-/// Allowance for the band-shape model in a band maximum's uncertainty, as a
-/// fraction of its energy, added in quadrature to the fitted σ (common
-/// practice: maxima of broad d–d bands are rarely reproducible to better than
-/// about 0.5–1 %).
-pub const POSITION_ALLOWANCE: f64 = 0.005;
+/// Floor of a band maximum's uncertainty for the ligand-field fit, as a
+/// fraction of its energy, added in quadrature to the σ of the centre from the
+/// deconvolution's covariance: an allowance for the band-shape model (a
+/// symmetric shape fitted to a skewed band puts its centre off the maximum;
+/// common practice: maxima of broad d–d bands are rarely reproducible to
+/// better than a few tenths of a per cent).
+pub const POSITION_ALLOWANCE: f64 = 0.002;
+
+/// A band is assigned only when its height is at least this many noise σ
+/// (common practice: a feature under about 3σ is not a detection).
+pub const SIGNIFICANT_HEIGHT: f64 = 3.0;
+
+/// A band is assigned only when its area is at least this fraction of the
+/// strongest band's. Low, because a spin-forbidden line is both weak and
+/// narrow: a ²E line 150 cm⁻¹ wide at 4 % of the height of a 2 800 cm⁻¹ band
+/// has 0.2 % of its area (CALC, the sharp-line case of the hard cases).
+pub const SIGNIFICANT_AREA: f64 = 0.001;
 
 /// How far (as a fraction of its energy) a user's choice may lie from the band
 /// it is matched to.
@@ -35,8 +47,25 @@ pub const MIN_FIT_POINTS: usize = 8;
 pub const MAX_ITERATIONS: usize = 200;
 
 /// The baselines tried under the bands when none is given (lower BIC wins).
-pub const BASELINE_CANDIDATES: [BaselineModel; 2] =
-    [BaselineModel::Linear, BaselineModel::Scattering];
+/// The charge-transfer tail is one of them so that a charge-transfer band
+/// rising into the UV end is taken up by the baseline, not by d–d bands.
+pub const BASELINE_CANDIDATES: [BaselineModel; 3] = [
+    BaselineModel::Linear,
+    BaselineModel::Scattering,
+    BaselineModel::ChargeTransferTail,
+];
+
+/// AsLS baseline defaults: λ (per [`crate::preprocess::REFERENCE_POINTS`]
+/// points) and the asymmetry p. The Whittaker penalty follows features of
+/// about λ^¼ points; d–d bands are thousands of cm⁻¹ wide, a hundred or more
+/// points of a typical spectrum, so λ sits at the stiff end and p at the low
+/// end of the ranges Eilers & Boelens (2005, "Baseline correction with
+/// asymmetric least squares smoothing") suggest, 10² ≤ λ ≤ 10⁹ and
+/// 0.001 ≤ p ≤ 0.1.
+pub const ASLS_LAMBDA: f64 = 1e9;
+pub const ASLS_P: f64 = 0.001;
+/// arPLS baseline default λ, per the same reference point count (as stiff as AsLS's).
+pub const ARPLS_LAMBDA: f64 = 1e9;
 
 /// Savitzky–Golay smoothing defaults: window (points, odd) and polynomial order.
 pub const SMOOTH_WINDOW: usize = 11;
@@ -81,6 +110,13 @@ pub struct Defaults {
     pub position_allowance: f64,
     pub choice_match: f64,
     pub narrow_band: f64,
+    /// Significance test: least height in noise σ, least area as a fraction
+    /// of the strongest band, least data spacings per FWHM.
+    pub significant_height: f64,
+    pub significant_area: f64,
+    pub min_points_per_fwhm: f64,
+    /// Band count: a BIC within this of the lowest counts as as good, and the smaller count wins.
+    pub bic_margin: f64,
     pub auto_bands: usize,
     pub max_auto_bands: usize,
     pub max_bands: usize,
@@ -102,6 +138,10 @@ impl Defaults {
             position_allowance: POSITION_ALLOWANCE,
             choice_match: CHOICE_MATCH,
             narrow_band: NARROW_BAND,
+            significant_height: SIGNIFICANT_HEIGHT,
+            significant_area: SIGNIFICANT_AREA,
+            min_points_per_fwhm: crate::bands::MIN_POINTS_PER_FWHM,
+            bic_margin: crate::bands::BIC_MARGIN,
             auto_bands: AUTO_BANDS,
             max_auto_bands: MAX_AUTO_BANDS,
             max_bands: MAX_BANDS,
@@ -117,10 +157,12 @@ impl Defaults {
                     },
                     BaselineMethod::RubberBand,
                     BaselineMethod::Asls {
-                        lambda: 1e5,
-                        p: 0.01,
+                        lambda: ASLS_LAMBDA,
+                        p: ASLS_P,
                     },
-                    BaselineMethod::Arpls { lambda: 1e5 },
+                    BaselineMethod::Arpls {
+                        lambda: ARPLS_LAMBDA,
+                    },
                     BaselineMethod::Scattering { exponent: None },
                 ],
             },
@@ -148,6 +190,36 @@ mod tests {
         let v = serde_json::to_value(Defaults::get()).unwrap();
         assert_eq!(v["palette"][0], "#0072b2");
         assert_eq!(v["palette"][1], "#d55e00");
+    }
+
+    /// The default AsLS and arPLS baselines under a 3 000 cm⁻¹ band on a
+    /// sloping line (1 000 points over 10 000–30 000 cm⁻¹) stay near the line:
+    /// at the band maximum within 10 % of the band height (the former
+    /// λ = 10⁵, p = 0.01 followed the band to about half its height).
+    #[test]
+    fn the_default_whittaker_baselines_do_not_follow_a_band_thousands_of_wavenumbers_wide() {
+        let x: Vec<f64> = (0..1000).map(|i| 10_000.0 + 20.0 * f64::from(i)).collect();
+        let line = |v: f64| 0.1 + 2e-6 * (v - 10_000.0);
+        let y: Vec<f64> = x
+            .iter()
+            .map(|&v| {
+                line(v) + (-4.0 * std::f64::consts::LN_2 * ((v - 20_000.0) / 3000.0).powi(2)).exp()
+            })
+            .collect();
+        for method in &Defaults::get().cleaning.baselines {
+            if !matches!(
+                method,
+                BaselineMethod::Asls { .. } | BaselineMethod::Arpls { .. }
+            ) {
+                continue;
+            }
+            let b = crate::preprocess::baseline(&x, &y, method).unwrap();
+            let at_peak = b[500] - line(x[500]);
+            assert!(
+                at_peak.abs() < 0.1,
+                "{method:?}: {at_peak} above the line at the maximum"
+            );
+        }
     }
 
     #[test]

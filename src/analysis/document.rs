@@ -406,4 +406,13 @@ pub struct Results {
     /// What the cleaning and the analysis chose or noticed.
     #[serde(default)]
     pub warnings: Vec<String>,
+    /// The noise of the spectrum (before smoothing), when it could be estimated.
+    #[serde(default)]
+    pub noise: Option<crate::spectrum::noise::Noise>,
+    /// What the ligand-field analysis came to, when one was asked for.
+    #[serde(default)]
+    pub outcome: Option<super::Outcome>,
+    /// The outcome as a plain sentence.
+    #[serde(default)]
+    pub outcome_text: Option<String>,
 }

@@ -14,17 +14,26 @@
 //! - every point is weighted by its share of the wavenumber axis (trapezoid
 //!   weights normalised to a mean of 1), so a grid even in wavelength does not
 //!   over-weight the near infrared;
-//! - a band's position uncertainty for the ligand-field fit is its fitted σ
-//!   combined in quadrature with [`defaults::POSITION_ALLOWANCE`] (0.5 %) of its energy, an allowance for the
-//!   band-shape model (common practice: maxima of broad d–d bands are rarely
-//!   reproducible to better than about 0.5–1 %);
+//! - the noise σ of the spectrum is estimated from the data before cleaning
+//!   (smoothing correlates neighbouring points and hides the noise;
+//!   [`crate::spectrum::noise`]), and a band is assigned only when it passes
+//!   the significance test of [`significance`] (height, width, area, range,
+//!   bounds); the others stay in the band model, marked with their reason;
+//! - when no band passes, no ligand-field fit is made and the outcome says so
+//!   ([`Outcome`]);
+//! - a band's position uncertainty for the ligand-field fit is the σ of its
+//!   centre from the deconvolution's covariance (which scales with the
+//!   residual scatter, i.e. the noise), combined in quadrature with a floor of
+//!   [`defaults::POSITION_ALLOWANCE`] of its energy for the band-shape model
+//!   (a symmetric shape fitted to a skewed band puts the centre off the
+//!   maximum);
 //! - bands narrower than 800 cm⁻¹ are read as spin-flip lines, so spin-forbidden
 //!   transitions are considered (common practice: spin-forbidden intraconfigurational
 //!   bands are tens to hundreds of cm⁻¹ wide);
 //! - when there are more bands than the model has transitions, the highest
 //!   unforced band is set aside as not d–d (assumed charge transfer), one at
 //!   a time; when every band left is forced, the fit stops with a reason;
-//! - unless a baseline is given, a linear and a scattering (Rayleigh-like,
+//! - unless a baseline is given, a linear, a charge-transfer tail and a scattering (Rayleigh-like,
 //!   a + b·ν̃ⁿ with n free) baseline are both tried and the lower BIC wins
 //!   (common practice: glasses, powders and turbid solutions scatter; left as
 //!   a straight line, the curvature is taken up by small spurious bands at the
@@ -37,7 +46,8 @@
 
 use crate::bands::{self, BandFit, BandModel, BaselineModel, FitOptions};
 use crate::lf_fit::{self, FitOutcome, FitRequest, LfFitError, ObservedBand};
-use crate::preprocess;
+use crate::preprocess::{self, Step};
+use crate::spectrum::noise::{self, Noise};
 use crate::spectrum::{self, Quantity, Spectrum, Warning, XUnit};
 use serde::{Deserialize, Serialize};
 use std::fmt;
@@ -46,6 +56,8 @@ pub mod defaults;
 pub mod document;
 mod load;
 mod migrate;
+pub mod outcome;
+pub mod significance;
 mod validate;
 
 pub use crate::bands::model_of;
@@ -54,6 +66,7 @@ pub use document::{
     Results, Sample, SampleData, SeriesSort, Source, View, SCHEMA,
 };
 pub use load::{schema_of, DocumentError};
+pub use outcome::Outcome;
 
 use defaults::NARROW_BAND;
 
@@ -250,7 +263,7 @@ fn deconvolve_with(
                 x,
                 y,
                 Some(w),
-                max.clamp(1, defaults::MAX_AUTO_BANDS),
+                max.min(defaults::MAX_AUTO_BANDS),
                 setup.shape,
                 baseline,
                 fit_opts,
@@ -312,11 +325,12 @@ fn fit_options(s: &Spectrum, setup: &BandSetup) -> FitOptions {
     }
 }
 
-/// The band maxima of a band fit, as input to the ligand-field fit.
+/// The band maxima of a band fit, as input to the ligand-field fit: every
+/// band not marked as left out by the significance test.
 pub fn observed_bands(fit: &BandFit, quantity: Quantity) -> Vec<ObservedBand> {
     fit.bands
         .iter()
-        .filter(|b| b.centre.value.is_finite() && b.centre.value > 0.0)
+        .filter(|b| b.left_out.is_none() && b.centre.value.is_finite() && b.centre.value > 0.0)
         .map(|b| {
             let energy = b.maximum.unwrap_or(b.centre.value);
             let stat = b.centre.sigma.unwrap_or(0.0);
@@ -330,6 +344,37 @@ pub fn observed_bands(fit: &BandFit, quantity: Quantity) -> Vec<ObservedBand> {
             }
         })
         .collect()
+}
+
+/// The noise of the data a band fit rests on: the spectrum before cleaning,
+/// in the setup's range and the cleaned spectrum's.
+fn noise_of(raw: &Spectrum, cleaned: &Spectrum, setup: &BandSetup) -> Option<Noise> {
+    let (lo, hi) = (cleaned.wavenumber.first()?, cleaned.wavenumber.last()?);
+    let range = match setup.range {
+        Some([a, b]) => [a.max(*lo), b.min(*hi)],
+        None => [*lo, *hi],
+    };
+    let (x, y, _) = fit_points(raw, Some(range));
+    noise::estimate(&x, &y)
+}
+
+/// Marks the bands that fail the significance test (see [`significance`]).
+fn mark_significance(
+    bands: &mut Deconvolution,
+    s: &Spectrum,
+    setup: &BandSetup,
+    noise: Option<&Noise>,
+) {
+    let (x, _, _) = fit_points(s, setup.range);
+    let (Some(lo), Some(hi)) = (x.first().copied(), x.last().copied()) else {
+        return;
+    };
+    let ctx = significance::Context {
+        noise: noise.map(|n| n.sigma),
+        spacing: bands::data_spacing(&x),
+        range: [lo, hi],
+    };
+    significance::mark(&mut bands.fit, &ctx);
 }
 
 /// Copies the user's choices (`assign`, `not_dd`) onto the nearest band of
@@ -382,6 +427,15 @@ pub fn assign(
     lf: &LigandFieldOptions,
 ) -> Assignment {
     let mut observed = observed_bands(&bands.fit, s.quantity);
+    if observed.is_empty() {
+        // Nothing significant to assign: no fit, no numbers (the outcome says why).
+        return Assignment {
+            observed,
+            fit: None,
+            fit_error: None,
+            warnings: Vec::new(),
+        };
+    }
     let mut warnings = apply_choices(&mut observed, &lf.choices);
     let narrow = observed
         .iter()
@@ -441,6 +495,24 @@ pub fn assign(
     }
 }
 
+/// Said when the band count was chosen on smoothed data.
+const SMOOTHED: &str = "the data were smoothed before the band fit: smoothing correlates neighbouring points, so the BIC counts more independent points than there are and may favour extra bands (the noise was estimated before smoothing)";
+
+/// One warning per band left out of the assignment, with its reason.
+fn left_out_warnings(fit: &BandFit) -> Vec<String> {
+    fit.bands
+        .iter()
+        .filter_map(|b| {
+            b.left_out.map(|why| {
+                format!(
+                    "the band at {:.0} cm⁻¹ is kept in the band model but not assigned: {why}",
+                    b.centre.value
+                )
+            })
+        })
+        .collect()
+}
+
 /// The spectrum a document's sample holds, as imported (before cleaning).
 pub fn sample_spectrum(doc: &Document) -> Result<Spectrum, AnalysisError> {
     let data = doc.sample.data.as_ref().ok_or(AnalysisError::NoData)?;
@@ -469,10 +541,12 @@ pub fn analyze(
 ) -> Result<Document, AnalysisError> {
     let raw = sample_spectrum(doc)?;
     let (s, cleaning) = preprocess::apply_steps(&raw, &doc.steps).map_err(AnalysisError::Clean)?;
-    let bands = match &doc.bands.model {
+    let mut bands = match &doc.bands.model {
         Some(model) => refit(&s, model, &doc.bands, progress)?,
         None => deconvolve(&s, &doc.bands, progress)?,
     };
+    let noise = noise_of(&raw, &s, &doc.bands);
+    mark_significance(&mut bands, &s, &doc.bands, noise.as_ref());
     let a = match &doc.ligand_field {
         Some(lf) => assign(&bands, &s, doc.bands.range, lf),
         None => Assignment {
@@ -483,7 +557,17 @@ pub fn analyze(
         },
     };
     let mut warnings: Vec<String> = cleaning.into_iter().map(|w| w.message).collect();
+    warnings.extend(left_out_warnings(&bands.fit));
+    if doc.bands.model.is_none() && doc.steps.iter().any(|st| matches!(st, Step::Smooth { .. })) {
+        warnings.push(SMOOTHED.into());
+    }
     warnings.extend(a.warnings);
+    let assignable = a.observed.len();
+    let (outcome, outcome_text) = doc
+        .ligand_field
+        .as_ref()
+        .and_then(|_| outcome::outcome_of(a.fit.as_ref(), assignable, noise.as_ref(), s.quantity))
+        .unzip();
     let mut out = doc.clone();
     out.results = Some(Results {
         import: ImportSummary::of(&raw),
@@ -492,6 +576,9 @@ pub fn analyze(
         fit: a.fit,
         fit_error: a.fit_error,
         warnings,
+        noise,
+        outcome,
+        outcome_text,
     });
     out.program = format!("ddlens {}", crate::VERSION);
     Ok(out)

@@ -33,6 +33,24 @@ pub(super) fn validate(x: &[f64], y: &[f64], weights: Option<&[f64]>) -> Result<
     Ok(())
 }
 
+/// The spacing of the data points: the median distance between neighbours
+/// on the sorted axis (on a grid even in wavelength it varies along the axis;
+/// the median is the typical one). Zero for fewer than two distinct points.
+pub fn data_spacing(x: &[f64]) -> f64 {
+    let mut sorted: Vec<f64> = x.iter().copied().filter(|v| v.is_finite()).collect();
+    sorted.sort_by(f64::total_cmp);
+    let mut gaps: Vec<f64> = sorted
+        .windows(2)
+        .map(|w| w[1] - w[0])
+        .filter(|g| *g > 0.0)
+        .collect();
+    if gaps.is_empty() {
+        return 0.0;
+    }
+    let mid = gaps.len() / 2;
+    *gaps.select_nth_unstable_by(mid, f64::total_cmp).1
+}
+
 /// Builds the parameter layout: names, bounds, ties → q.
 fn compile<'a>(
     x: &'a [f64],
@@ -43,7 +61,8 @@ fn compile<'a>(
     let x_min = x.iter().copied().fold(f64::INFINITY, f64::min);
     let x_max = x.iter().copied().fold(f64::NEG_INFINITY, f64::max);
     let span = (x_max - x_min).max(f64::MIN_POSITIVE);
-    let (mut params, band_start) = band_params(model, x_min, x_max, span)?;
+    let min_fwhm = data_spacing(x).max(1e-4 * span);
+    let (mut params, band_start) = band_params(model, [x_min, x_max], min_fwhm)?;
     let baseline_start = params.len();
     for (name, value, lo, hi) in baseline_params(&model.baseline, x, y) {
         push(&mut params, format!("baseline.{name}"), value, lo, hi);
@@ -86,13 +105,16 @@ fn push(params: &mut Vec<ParamDef>, name: String, value: f64, lower: f64, upper:
 
 /// Centre, width, height (and the shape's extra) of every band with their
 /// bounds; and where each band's parameters start.
+///
+/// A width may not fall below `min_fwhm`, the data spacing: a band narrower
+/// than the distance between points is not resolved (it fits one point).
 fn band_params(
     model: &BandModel,
-    x_min: f64,
-    x_max: f64,
-    span: f64,
+    [x_min, x_max]: [f64; 2],
+    min_fwhm: f64,
 ) -> Result<(Vec<ParamDef>, Vec<usize>), BandFitError> {
     let inf = f64::INFINITY;
+    let span = (x_max - x_min).max(f64::MIN_POSITIVE);
     let mut params: Vec<ParamDef> = Vec::new();
     let mut band_start = Vec::new();
     for (b, spec) in model.bands.iter().enumerate() {
@@ -121,7 +143,7 @@ fn band_params(
             &mut params,
             format!("band{n}.fwhm"),
             spec.fwhm,
-            1e-4 * span,
+            min_fwhm.min(3.0 * span),
             3.0 * span,
         );
         push(
@@ -527,6 +549,7 @@ fn band_result(
         oscillator_strength,
         class,
         at_bound,
+        left_out: None,
     }
 }
 

@@ -17,13 +17,7 @@ use nalgebra::{DMatrix, DVector};
 /// Starting bands (Gaussian) for `n` bands, or as many as the data suggest.
 /// Returns an empty list when the data are too short or not finite.
 pub fn guess(x: &[f64], y: &[f64], n: Option<usize>) -> Vec<BandSpec> {
-    let mut pts: Vec<(f64, f64)> = x
-        .iter()
-        .copied()
-        .zip(y.iter().copied())
-        .filter(|(a, b)| a.is_finite() && b.is_finite())
-        .collect();
-    pts.sort_by(|a, b| a.0.total_cmp(&b.0));
+    let mut pts = finite_sorted(x, y);
     pts.dedup_by(|a, b| a.0.total_cmp(&b.0).is_eq()); // exactly repeated x only
     if pts.len() < 7 || n == Some(0) {
         return Vec::new();
@@ -112,6 +106,73 @@ pub fn guess(x: &[f64], y: &[f64], n: Option<usize>) -> Vec<BandSpec> {
             fixed: Vec::new(),
         })
         .collect()
+}
+
+/// Points in the running mean that [`residual_band`] smooths the residual with.
+const RESIDUAL_WINDOW: usize = 5;
+
+/// One more band where a fit leaves the most signal: the largest positive
+/// residual `r` (after a running mean over [`RESIDUAL_WINDOW`] points, so one
+/// noisy point does not win), its width from where the smoothed residual
+/// falls to half of that (at least `min_fwhm`), its height that maximum.
+/// Growing a band count this way keeps the bands already found and catches
+/// what a second-derivative start smooths away: a sharp line, the weaker half
+/// of a close pair. `None` when no residual is positive.
+pub fn residual_band(x: &[f64], r: &[f64], min_fwhm: f64) -> Option<BandSpec> {
+    let pts = finite_sorted(x, r);
+    let m = pts.len();
+    if m < RESIDUAL_WINDOW {
+        return None;
+    }
+    let half = RESIDUAL_WINDOW / 2;
+    let smooth: Vec<f64> = (0..m)
+        .map(|i| {
+            let (lo, hi) = (i.saturating_sub(half), (i + half).min(m - 1));
+            pts[lo..=hi].iter().map(|p| p.1).sum::<f64>() / (hi - lo + 1) as f64
+        })
+        .collect();
+    let (top, &peak) = smooth
+        .iter()
+        .enumerate()
+        .max_by(|a, b| a.1.total_cmp(b.1))?;
+    if peak.is_nan() || peak <= 0.0 {
+        return None;
+    }
+    let mut l = top;
+    while l > 0 && smooth[l] > 0.5 * peak {
+        l -= 1;
+    }
+    let mut h = top;
+    while h + 1 < m && smooth[h] > 0.5 * peak {
+        h += 1;
+    }
+    // A half-maximum outside the range: mirror the side that was found.
+    let width = match (smooth[l] > 0.5 * peak, smooth[h] > 0.5 * peak) {
+        (false, false) => pts[h].0 - pts[l].0,
+        (true, false) => 2.0 * (pts[h].0 - pts[top].0),
+        (false, true) => 2.0 * (pts[top].0 - pts[l].0),
+        (true, true) => pts[m - 1].0 - pts[0].0,
+    };
+    Some(BandSpec {
+        shape: Shape::Gaussian,
+        centre: pts[top].0,
+        fwhm: width.max(min_fwhm),
+        height: peak,
+        extra: None,
+        fixed: Vec::new(),
+    })
+}
+
+/// The finite (x, y) pairs in ascending x.
+fn finite_sorted(x: &[f64], y: &[f64]) -> Vec<(f64, f64)> {
+    let mut pts: Vec<(f64, f64)> = x
+        .iter()
+        .copied()
+        .zip(y.iter().copied())
+        .filter(|(a, b)| a.is_finite() && b.is_finite())
+        .collect();
+    pts.sort_by(|a, b| a.0.total_cmp(&b.0));
+    pts
 }
 
 fn span_of(pts: &[(f64, f64)]) -> f64 {
@@ -207,6 +268,30 @@ fn nnls(a: &DMatrix<f64>, b: &DVector<f64>) -> Vec<f64> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn a_residual_start_finds_a_sharp_line_beside_a_broad_hump() {
+        // The residual of a broad-band fit: a 150 cm⁻¹ line of height 0.01 at
+        // 14 000 cm⁻¹ on a slow ±0.004 ripple, 20 cm⁻¹ spacing.
+        let x: Vec<f64> = (0..600).map(|i| 10_000.0 + 20.0 * f64::from(i)).collect();
+        let r: Vec<f64> = x
+            .iter()
+            .map(|v| {
+                0.004 * (v / 2000.0).sin()
+                    + 0.01
+                        * (-4.0 * std::f64::consts::LN_2 * ((v - 14_000.0) / 150.0).powi(2)).exp()
+            })
+            .collect();
+        let b = residual_band(&x, &r, 20.0).unwrap();
+        assert!((b.centre - 14_000.0).abs() <= 20.0, "centre {}", b.centre);
+        assert!(b.fwhm > 60.0 && b.fwhm < 400.0, "fwhm {}", b.fwhm);
+    }
+
+    #[test]
+    fn a_residual_that_is_nowhere_positive_gives_no_start() {
+        let x: Vec<f64> = (0..20).map(f64::from).collect();
+        assert!(residual_band(&x, &[-1.0; 20], 1.0).is_none());
+    }
 
     #[test]
     fn wavenumbers_spanning_1e_minus_300_to_1e300_give_bands_or_nothing_without_a_panic() {

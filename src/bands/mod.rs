@@ -28,10 +28,10 @@ pub mod shapes;
 pub use crate::stats;
 
 pub use evaluate::{evaluate, evaluate_bands, model_of};
-pub use fit::fit;
+pub use fit::{data_spacing, fit};
 pub use guess::guess;
 pub use lm::{Progress, StopReason};
-pub use select::select_band_count;
+pub use select::{select_band_count, BIC_MARGIN, MIN_POINTS_PER_FWHM};
 pub use shapes::Shape;
 
 use crate::estimate::Estimate;
@@ -164,6 +164,39 @@ pub struct BandResult {
     pub class: Option<String>,
     /// Parameters that ended on a bound.
     pub at_bound: Vec<String>,
+    /// Why the band is left out of the ligand-field analysis, when it is (set
+    /// by the analysis's significance test; `None` from a bare band fit).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub left_out: Option<LeftOut>,
+}
+
+/// Why a fitted band is kept in the band model but not handed to the
+/// assignment (the significance test of `analysis`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum LeftOut {
+    /// Its height is below a few noise σ.
+    BelowNoise,
+    /// It is narrower than the spacing of the data points.
+    NarrowerThanSpacing,
+    /// Its area is a small fraction of the strongest band's.
+    SmallArea,
+    /// Its centre lies outside the measured range.
+    OutsideRange,
+    /// A parameter ended on its bound, so the fit did not locate it.
+    OnBound,
+}
+
+impl fmt::Display for LeftOut {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(match self {
+            LeftOut::BelowNoise => "its height is not clearly above the noise",
+            LeftOut::NarrowerThanSpacing => "it is narrower than the spacing of the data points",
+            LeftOut::SmallArea => "its area is a tiny fraction of the strongest band's",
+            LeftOut::OutsideRange => "its centre lies outside the measured range",
+            LeftOut::OnBound => "one of its parameters ended on a bound of the fit",
+        })
+    }
 }
 
 /// A named fitted coefficient.

@@ -12,7 +12,10 @@ ddlens analyze FILE [OPTIONS]
 Imports FILE, cleans it (--crop, --smooth, --subtract-baseline, in that order),
 resolves its bands, assigns them and fits 10Dq, B (and C). With --project P.json
 instead of FILE, recomputes every sample of a saved project with its own settings.
-The exit code is 1 when the ligand-field fit fails (the bands are still reported).
+The outcome is printed as a sentence (JSON: top-level `outcome`, one of assigned,
+no_dd_bands, no_spin_allowed_bands, underdetermined, and `outcome_text`).
+The exit code is 1 when the ligand-field fit fails (the bands are still reported),
+and 0 in every outcome above.
 ";
 
 pub(super) const FLAGS: [&Flag; 22] = [
@@ -71,13 +74,28 @@ pub fn run(words: &[String]) -> Result<String, CliError> {
     }
     if p.json {
         doc.sample.data = None;
-        let text = json_text(&doc)?;
+        let text = json_text(&with_outcome(&doc)?)?;
         return match doc.results.as_ref().and_then(|r| r.fit_error.clone()) {
             Some(e) => Err(CliError::FitFailed(text, e)),
             None => Ok(text),
         };
     }
     report(&doc)
+}
+
+/// The document as JSON with its results' outcome and sentence copied to the
+/// top level (where `jq .outcome` finds them; `results.fit.best` stays put).
+fn with_outcome(doc: &Document) -> Result<serde_json::Value, CliError> {
+    let mut v = serde_json::to_value(doc).map_err(|e| CliError::Failed(e.to_string()))?;
+    if let (Some(map), Some(r)) = (v.as_object_mut(), doc.results.as_ref()) {
+        let outcome = serde_json::to_value(r.outcome).unwrap_or_default();
+        map.insert("outcome".into(), outcome);
+        map.insert(
+            "outcome_text".into(),
+            serde_json::to_value(&r.outcome_text).unwrap_or_default(),
+        );
+    }
+    Ok(v)
 }
 
 /// Writes `doc` (with its data) as a one-sample project.
@@ -125,7 +143,8 @@ fn recompute(p: &flags::Parsed, path: &str) -> Result<String, CliError> {
         for d in &mut docs {
             d.sample.data = None;
         }
-        json_text(&docs)?
+        let docs: Result<Vec<_>, _> = docs.iter().map(with_outcome).collect();
+        json_text(&docs?)?
     } else {
         let mut out = String::new();
         for d in &docs {
@@ -157,15 +176,23 @@ fn report(doc: &Document) -> Result<String, CliError> {
         i.x_range_cm[0],
         i.x_range_cm[1]
     );
+    if let Some(n) = &analysis.noise {
+        outln!(out, "noise σ ≈ {:.2e} ({})", n.sigma, n.method);
+    }
     outln!(out, "bands ({}):", analysis.bands.fit.bands.len());
     for b in &analysis.bands.fit.bands {
         outln!(
             out,
-            "    {:>18} cm⁻¹ ({:.1} nm)   FWHM {}   height {}",
+            "    {:>18} cm⁻¹ ({:.1} nm)   FWHM {}   height {}{}",
             b.centre.to_string(),
             b.centre_nm.value,
             b.fwhm,
-            b.height
+            b.height,
+            if b.left_out.is_some() {
+                "   (not assigned)"
+            } else {
+                ""
+            }
         );
     }
     for w in doc
@@ -175,6 +202,9 @@ fn report(doc: &Document) -> Result<String, CliError> {
         .chain(&analysis.bands.fit.warnings)
     {
         outln!(out, "warning: {w}");
+    }
+    if let Some(text) = &analysis.outcome_text {
+        outln!(out, "{text}");
     }
     match (&analysis.fit, &analysis.fit_error) {
         (Some(o), _) => super::fit::print_outcome(&mut out, o),

@@ -7,7 +7,7 @@
 //! subtraction).
 
 use super::{baseline, crop, savgol, BaselineMethod, PreprocessError};
-use crate::spectrum::{Spectrum, Warning};
+use crate::spectrum::{noise, Spectrum, Warning};
 use serde::{Deserialize, Serialize};
 
 /// One cleaning step.
@@ -26,7 +26,9 @@ pub enum Step {
 const MIN_POINTS: usize = 2;
 
 /// Applies `steps` in order to `s`; the warnings say what a step did that the
-/// user should know (a subtracted baseline that rises above the data).
+/// user should know (a subtracted baseline that rises above the data: more
+/// than 5 % of the points below zero by more than 3 noise σ,
+/// [`crate::spectrum::noise`]).
 pub fn apply_steps(
     s: &Spectrum,
     steps: &[Step],
@@ -55,10 +57,14 @@ pub fn apply_steps(
             }
             Step::SubtractBaseline { method } => {
                 let base = baseline(&out.wavenumber, &out.values, method)?;
+                // Negative by more than the noise (3σ): the baseline rose above the data,
+                // not just through the scatter of a flat stretch.
+                let tolerance =
+                    noise::estimate(&out.wavenumber, &out.values).map_or(0.0, |n| 3.0 * n.sigma);
                 let mut below = 0;
                 for (y, b) in out.values.iter_mut().zip(&base) {
                     *y -= b;
-                    if *y < 0.0 {
+                    if *y < -tolerance {
                         below += 1;
                     }
                 }

@@ -40,6 +40,7 @@ pub mod csv;
 pub mod delimited;
 mod error;
 pub mod jcamp;
+pub mod noise;
 pub mod saturation;
 pub mod text;
 pub mod units;
