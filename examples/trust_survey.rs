@@ -192,6 +192,7 @@ impl Tally {
         if let Some(Estimate {
             value,
             sigma: Some(s),
+            ..
         }) = e
         {
             let d = (value - truth).abs();

@@ -37,6 +37,9 @@ pub fn run(words: &[String]) -> Result<String, CliError> {
     req.max_prediction = p.max_prediction;
     req.observed_from = p.observed_from;
     let outcome = lf_fit::fit(&req).map_err(|e| CliError::Failed(e.to_string()))?;
+    outcome
+        .refuse_unfittable_c()
+        .map_err(|e| CliError::Failed(e.to_string()))?;
     if p.json {
         return json_text(&outcome);
     }
