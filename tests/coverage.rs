@@ -21,8 +21,8 @@ mod hard_cases;
 use ddlens::analysis::{self, BandSetup, Document, LigandFieldOptions, Source};
 use ddlens::estimate::Estimate;
 use ddlens::lf_fit::FitRequest;
-use hard_cases::Axis;
 use ddlens::ligand_field::Geometry;
+use hard_cases::Axis;
 
 const DRAWS: u64 = 50;
 const NOISE: f64 = 0.0045;

@@ -13,7 +13,7 @@ use crate::estimate::Estimate;
 
 /// A fitted Dq, B or C at or below this (cm⁻¹) ran to the bound θ > 0:
 /// no dⁿ ion has a parameter within orders of magnitude of it (common practice).
-const ON_BOUND: f64 = 1.0;
+pub(crate) const ON_BOUND: f64 = 1.0;
 
 /// β above this is not listed: a B more than 10 % above the free ion's is
 /// not physical (common practice; the plausibility check flags 1.05).

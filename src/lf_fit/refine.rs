@@ -228,7 +228,10 @@ pub(crate) fn fit_assignment(p: &Problem, t: &Tuple) -> Result<Solution, LfFitEr
         .map(|(th, ev)| (free, th, ev))
         .ok_or_else(left)?;
     let rank_chi2 = ev.residual.norm_squared();
-    if free == Free::DqB && covariance(&ev, k, 2).is_none() {
+    // A fit that ran to the bound has no minimum with B > 0: it stays as it
+    // is (and is not listed), rather than becoming a fit at a held B.
+    let on_bound = theta.iter().any(|v| *v <= super::rank::ON_BOUND);
+    if free == Free::DqB && !on_bound && covariance(&ev, k, 2).is_none() {
         let f = hold_b(
             p,
             t,
