@@ -236,10 +236,9 @@ fn round_trip_every_configuration_and_geometry() {
     }
 }
 
-#[test]
-fn manganese_ii_needs_spin_forbidden_bands() {
-    // d5 high spin: every d–d band is spin-forbidden. Quartet bands generated
-    // from the model are fitted with C free (B, C and Dq all determined).
+/// The four lowest distinct Mn²⁺ Oh quartet levels placed by the engine at
+/// Dq 850, B 670, C 3 850 cm⁻¹ (C/B 5.75), and those parameters.
+fn manganese_quartets() -> ((f64, f64, f64), Vec<f64>) {
     let (dq, b, c) = (850.0, 670.0, 3850.0);
     let levels = model(5, Geometry::Octahedral)
         .unwrap()
@@ -253,6 +252,14 @@ fn manganese_ii_needs_spin_forbidden_bands() {
         .collect();
     quartets.dedup_by(|a, b| (*a - *b).abs() < 1e-6);
     quartets.truncate(4);
+    ((dq, b, c), quartets)
+}
+
+#[test]
+fn manganese_ii_needs_spin_forbidden_bands() {
+    // d5 high spin: every d–d band is spin-forbidden. Quartet bands generated
+    // from the model are fitted with C free (B, C and Dq all determined).
+    let ((dq, b, c), quartets) = manganese_quartets();
     let req = FitRequest {
         n: 5,
         bands: bands(&quartets),
@@ -518,18 +525,7 @@ fn c_is_fitted_when_the_quartet_bands_determine_it() {
     // Mn²⁺ quartets placed by the engine at C/B = 5.75, far from the default
     // 4.5: without asking, C is fitted and found again (issue 17: B came out
     // 15 % high when C/B stayed at the free-ion value).
-    let (dq, b, c) = (850.0, 670.0, 3850.0);
-    let levels = model(5, Geometry::Octahedral)
-        .unwrap()
-        .levels(&Params { dq, b, c })
-        .unwrap();
-    let mut quartets: Vec<f64> = levels
-        .iter()
-        .filter(|l| l.multiplicity == 4)
-        .map(|l| l.energy)
-        .collect();
-    quartets.dedup_by(|a, b| (*a - *b).abs() < 1e-6);
-    quartets.truncate(4);
+    let ((dq, b, c), quartets) = manganese_quartets();
     let best = fit(&FitRequest {
         n: 5,
         bands: bands(&quartets),
