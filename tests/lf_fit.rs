@@ -540,6 +540,7 @@ fn c_is_fitted_when_the_quartet_bands_determine_it() {
     assert!(fitted.determined && fitted.sigma.is_some());
     assert!(rel(fitted.value, c) < 1e-5, "C {}", fitted.value);
     assert!(rel(best.parameters.b.unwrap().value, b) < 1e-5);
+    assert!(rel(best.parameters.dq.value, dq) < 1e-5);
 }
 
 #[test]
