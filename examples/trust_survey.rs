@@ -228,6 +228,7 @@ impl Tally {
         if let Some(Estimate {
             value,
             sigma: Some(s),
+            ..
         }) = e
         {
             let d = (value - truth).abs();

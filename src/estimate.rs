@@ -6,23 +6,82 @@ use serde::{Deserialize, Serialize};
 ///
 /// `sigma` is `None` when no uncertainty can be given (for example a
 /// parameter held fixed, or a singular covariance matrix); it is never NaN.
+/// `determined` is false for a value the data do not determine, held at a
+/// stated value instead (it is then printed as held, never with a σ).
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 pub struct Estimate {
     pub value: f64,
     pub sigma: Option<f64>,
+    /// False when the data do not determine the value (absent in JSON: true).
+    #[serde(default = "yes", skip_serializing_if = "is_true")]
+    pub determined: bool,
 }
+
+fn yes() -> bool {
+    true
+}
+
+// serde's skip_serializing_if hands the field by reference.
+#[allow(clippy::trivially_copy_pass_by_ref)]
+fn is_true(b: &bool) -> bool {
+    *b
+}
+
+/// What a held value says after its number.
+pub const HELD_TEXT: &str = "(held: not determined by these bands)";
 
 impl Estimate {
     /// A value with a known uncertainty; a non-finite or negative σ becomes `None`.
     pub fn new(value: f64, sigma: f64) -> Self {
         let sigma = (sigma.is_finite() && sigma >= 0.0).then_some(sigma);
-        Estimate { value, sigma }
+        Estimate {
+            value,
+            sigma,
+            determined: true,
+        }
     }
 
     /// A value with no uncertainty (fixed or not estimable).
     pub fn exact(value: f64) -> Self {
-        Estimate { value, sigma: None }
+        Estimate {
+            value,
+            sigma: None,
+            determined: true,
+        }
     }
+
+    /// A value the data do not determine, held at `value`: no σ.
+    pub fn held(value: f64) -> Self {
+        Estimate {
+            value,
+            sigma: None,
+            determined: false,
+        }
+    }
+
+    /// The same estimate multiplied by `factor` (σ by |factor|).
+    #[must_use]
+    pub fn scaled(self, factor: f64) -> Self {
+        Estimate {
+            value: self.value * factor,
+            sigma: self.sigma.map(|s| s * factor.abs()),
+            determined: self.determined,
+        }
+    }
+}
+
+/// σ rounded to [`SIGMA_DIGITS`] significant digits, and the power of ten
+/// it ends on (common practice: the GUM, JCGM 100:2008 §7.2.6, asks for
+/// at most two significant digits, from memory).
+fn rounded_sigma(s: f64) -> (f64, i32) {
+    let mut decade = s.log10().floor() as i32 - (SIGMA_DIGITS as i32 - 1);
+    let mut r = (s / 10f64.powi(decade)).round() * 10f64.powi(decade);
+    // 99.6 rounds to 100: three digits, so the last one moves a decade up.
+    if r >= 10f64.powi(decade + SIGMA_DIGITS as i32) {
+        decade += 1;
+        r = (s / 10f64.powi(decade)).round() * 10f64.powi(decade);
+    }
+    (r, decade)
 }
 
 /// Significant digits an uncertainty is written with.
@@ -69,14 +128,24 @@ fn group_integer_part(word: &str) -> String {
 }
 
 impl std::fmt::Display for Estimate {
-    /// Writes the value the way chemists write it: `17400 ± 60`, the value
-    /// rounded to the decade of the uncertainty's two significant digits.
+    /// Writes the value the way chemists write it: `17403 ± 61`,
+    /// `123500 ± 1500`: σ to two significant digits and the value rounded
+    /// to the same decade. A held value is written with [`HELD_TEXT`].
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
         match self.sigma {
-            Some(s) if s > 0.0 => {
-                let decade = s.log10().floor() as i32 - (SIGMA_DIGITS as i32 - 1);
+            _ if !self.determined => {
+                write!(f, "{} {HELD_TEXT}", Estimate::exact(self.value))
+            }
+            Some(s) if s > 0.0 && s.is_finite() && self.value.is_finite() => {
+                let (s, decade) = rounded_sigma(s);
                 let digits = (-decade).max(0) as usize;
-                write!(f, "{:.*} ± {:.*}", digits, self.value, digits, s)
+                let step = 10f64.powi(decade);
+                let value = if decade > 0 {
+                    (self.value / step).round() * step
+                } else {
+                    self.value
+                };
+                write!(f, "{value:.digits$} ± {s:.digits$}")
             }
             _ => {
                 // Six significant digits, trailing zeros dropped.
@@ -123,7 +192,7 @@ mod tests {
         assert_eq!(Estimate::exact(999.0).grouped(), "999");
         assert_eq!(
             Estimate::new(123_456.0, 1500.0).grouped(),
-            "123\u{2009}456 ± 1\u{2009}500"
+            "123\u{2009}500 ± 1\u{2009}500"
         );
         assert_eq!(Estimate::exact(f64::NAN).grouped(), "—");
     }
@@ -135,5 +204,44 @@ mod tests {
         assert_eq!(Estimate::exact(2.5).to_string(), "2.5");
         assert_eq!(Estimate::exact(3850.0 / 918.0).to_string(), "4.1939");
         assert_eq!(Estimate::exact(20300.0).to_string(), "20300");
+    }
+
+    /// Two significant digits of σ and the value to match (GUM §7.2.6).
+    #[test]
+    fn a_large_sigma_rounds_the_value_to_its_decade() {
+        assert_eq!(
+            Estimate::new(123_456.0, 1534.0).to_string(),
+            "123500 ± 1500"
+        );
+        assert_eq!(Estimate::new(17_403.2, 99.7).to_string(), "17400 ± 100");
+        assert_eq!(Estimate::new(0.7912, 0.00996).to_string(), "0.791 ± 0.010");
+        assert_eq!(
+            Estimate::new(16_517.3, 0.372).to_string(),
+            "16517.30 ± 0.37"
+        );
+    }
+
+    #[test]
+    fn a_held_value_says_so_and_has_no_sigma() {
+        let c = Estimate::held(3850.0);
+        assert_eq!(c.sigma, None);
+        assert_eq!(c.to_string(), "3850 (held: not determined by these bands)");
+        assert_eq!(
+            c.grouped(),
+            "3\u{2009}850 (held: not determined by these bands)"
+        );
+        assert!(!c.scaled(2.0).determined);
+    }
+
+    #[test]
+    fn a_saved_estimate_without_the_field_is_determined() {
+        let e: Estimate = serde_json::from_str(r#"{"value": 1.0, "sigma": 0.5}"#).unwrap();
+        assert!(e.determined);
+        assert_eq!(
+            serde_json::to_string(&e).unwrap(),
+            r#"{"value":1.0,"sigma":0.5}"#
+        );
+        let h = serde_json::to_string(&Estimate::held(2.0)).unwrap();
+        assert_eq!(h, r#"{"value":2.0,"sigma":null,"determined":false}"#);
     }
 }

@@ -7,6 +7,12 @@
 //!   `scale_covar=True`, SciPy `absolute_sigma=False`) unless the weights
 //!   are absolute 1/σ², then s² = 1. This is also how NIST StRD certifies
 //!   its standard deviations (residual standard deviation² × (JᵀJ)⁻¹).
+//!   When the weights are the stated uncertainties of the data and the
+//!   scatter may only widen them, s² = max(1, χ²/(N − P)), and 1 with no
+//!   degrees of freedom left: the Birge ratio rule (R. T. Birge, Phys. Rev.
+//!   40, 207 (1932); the Particle Data Group's scale factor S = √(χ²/(N − 1))
+//!   applied only when S > 1, from memory). A χ²_ν below 1 says the data
+//!   agree better than their σ claim, which is no evidence for a smaller σ.
 //! * χ², χ²_ν = χ²/(N − P), R² = 1 − χ²/Σw(y − ȳ)², and the lmfit
 //!   definitions AIC = N ln(χ²/N) + 2P, BIC = N ln(χ²/N) + ln(N)·P.
 
@@ -84,6 +90,14 @@ pub enum ErrorScale {
         points: usize,
         parameters: usize,
     },
+    /// s² = max(1, χ²/(N − P)), 1 when N ≤ P: the weights are the data's
+    /// stated uncertainties, and a scatter larger than they allow widens
+    /// the result while a smaller one never narrows it (the Birge ratio rule).
+    AtLeastStated {
+        chi2: f64,
+        points: usize,
+        parameters: usize,
+    },
     /// s² = 1: the weights are absolute 1/σ².
     Absolute,
 }
@@ -97,6 +111,11 @@ impl ErrorScale {
                 points,
                 parameters,
             } if points > parameters => chi2 / (points - parameters) as f64,
+            ErrorScale::AtLeastStated {
+                chi2,
+                points,
+                parameters,
+            } if points > parameters => (chi2 / (points - parameters) as f64).max(1.0),
             _ => 1.0,
         }
     }
@@ -229,5 +248,21 @@ mod tests {
         assert_eq!(scale(6).s2(), 3.0);
         assert_eq!(scale(2).s2(), 1.0);
         assert_eq!(ErrorScale::Absolute.s2(), 1.0);
+    }
+
+    /// The Birge ratio rule (Birge 1932; PDG scale factor): s² = max(1, χ²_ν).
+    #[test]
+    // Exact comparison meant: small integer ratios are exact in f64.
+    #[allow(clippy::float_cmp)]
+    fn the_stated_scale_widens_for_a_large_chi2_and_never_narrows() {
+        let scale = |chi2, points| ErrorScale::AtLeastStated {
+            chi2,
+            points,
+            parameters: 2,
+        };
+        assert_eq!(scale(12.0, 6).s2(), 3.0);
+        assert_eq!(scale(0.04, 6).s2(), 1.0);
+        assert_eq!(scale(0.0, 2).s2(), 1.0);
+        assert_eq!(scale(12.0, 2).s2(), 1.0);
     }
 }

@@ -108,7 +108,7 @@ fn a_diagram_asked_for_an_energy_axis_of_1e308_is_refused() {
 fn a_series_with_a_delta_of_1e308_is_refused_and_drawing_ends() {
     let point = |sample: &str, value: f64| SeriesPoint {
         sample: sample.into(),
-        delta: ddlens::estimate::Estimate { value, sigma: None },
+        delta: ddlens::estimate::Estimate::exact(value),
         beta: None,
     };
     let points = vec![point("a", 1e308), point("b", -1e308)];

@@ -236,10 +236,9 @@ fn round_trip_every_configuration_and_geometry() {
     }
 }
 
-#[test]
-fn manganese_ii_needs_spin_forbidden_bands() {
-    // d5 high spin: every d–d band is spin-forbidden. Quartet bands generated
-    // from the model are fitted with C free (B, C and Dq all determined).
+/// The four lowest distinct Mn²⁺ Oh quartet levels placed by the engine at
+/// Dq 850, B 670, C 3 850 cm⁻¹ (C/B 5.75), and those parameters.
+fn manganese_quartets() -> ((f64, f64, f64), Vec<f64>) {
     let (dq, b, c) = (850.0, 670.0, 3850.0);
     let levels = model(5, Geometry::Octahedral)
         .unwrap()
@@ -253,6 +252,14 @@ fn manganese_ii_needs_spin_forbidden_bands() {
         .collect();
     quartets.dedup_by(|a, b| (*a - *b).abs() < 1e-6);
     quartets.truncate(4);
+    ((dq, b, c), quartets)
+}
+
+#[test]
+fn manganese_ii_needs_spin_forbidden_bands() {
+    // d5 high spin: every d–d band is spin-forbidden. Quartet bands generated
+    // from the model are fitted with C free (B, C and Dq all determined).
+    let ((dq, b, c), quartets) = manganese_quartets();
     let req = FitRequest {
         n: 5,
         bands: bands(&quartets),
@@ -391,4 +398,262 @@ fn jorgensen_estimate_is_shown_next_to_the_fit() {
     assert!(
         none.jorgensen.is_none() && none.warnings.iter().any(|w| w.contains("not in Jørgensen"))
     );
+}
+
+/// Ni²⁺ Oh band maxima placed by the engine at Dq 860, B 880, C/B 4.5, each with σ = 1 %.
+fn nickel_exact() -> (Vec<ObservedBand>, Params) {
+    let p = Params {
+        dq: 860.0,
+        b: 880.0,
+        c: 4.5 * 880.0,
+    };
+    let levels = model(8, Geometry::Octahedral).unwrap().levels(&p).unwrap();
+    let at = |label: &str| levels.iter().find(|l| l.label == label).unwrap().energy;
+    let bands = ["3T2g", "3T1g(F)", "3T1g(P)"]
+        .iter()
+        .map(|l| ObservedBand {
+            sigma: Some(0.01 * at(l)),
+            ..ObservedBand::at(at(l))
+        })
+        .collect();
+    (bands, p)
+}
+
+fn nickel_request(bands: Vec<ObservedBand>) -> FitRequest {
+    FitRequest {
+        n: 8,
+        bands,
+        c_over_b: Some(4.5),
+        ..Default::default()
+    }
+}
+
+/// σ(10Dq) from (JᵀJ)⁻¹ alone, J the σ-weighted central-difference
+/// Jacobian of the three Ni²⁺ transitions in (Dq, B) with C = 4.5·B,
+/// inverted by the 2×2 closed form: computed here, apart from the crate's
+/// solver and `stats`.
+fn nickel_sigma_delta_from_band_sigmas(bands: &[ObservedBand], p: Params) -> f64 {
+    let m = model(8, Geometry::Octahedral).unwrap();
+    let e = |dq: f64, b: f64| -> Vec<f64> {
+        let ls = m.levels(&Params { dq, b, c: 4.5 * b }).unwrap();
+        let g = ls[0].energy;
+        ["3T2g", "3T1g(F)", "3T1g(P)"]
+            .iter()
+            .map(|l| ls.iter().find(|x| x.label == *l).unwrap().energy - g)
+            .collect()
+    };
+    let h = 1e-3;
+    let (dp, dm) = (e(p.dq + h, p.b), e(p.dq - h, p.b));
+    let (bp, bm) = (e(p.dq, p.b + h), e(p.dq, p.b - h));
+    let (mut a, mut b, mut c) = (0.0, 0.0, 0.0);
+    for i in 0..3 {
+        let s = bands[i].sigma.unwrap();
+        let j0 = (dp[i] - dm[i]) / (2.0 * h) / s;
+        let j1 = (bp[i] - bm[i]) / (2.0 * h) / s;
+        a += j0 * j0;
+        b += j0 * j1;
+        c += j1 * j1;
+    }
+    10.0 * (c / (a * c - b * b)).sqrt()
+}
+
+#[test]
+fn bands_agreeing_better_than_their_sigma_do_not_shrink_it() {
+    // Exact bands give χ² ≈ 0: the reduced-χ² scaling used to make σ ≈ 0.
+    // The Birge ratio rule (Birge, Phys. Rev. 40, 207 (1932)) keeps s² = 1.
+    let (bands, p) = nickel_exact();
+    let best = fit(&nickel_request(bands.clone())).unwrap().best;
+    assert!(best.chi2 < 1e-12, "χ² = {}", best.chi2);
+    let sigma = best.derived.delta.sigma.unwrap();
+    let expected = nickel_sigma_delta_from_band_sigmas(&bands, p);
+    assert!(
+        rel(sigma, expected) < 1e-4,
+        "σ(Δ) {sigma} against {expected}"
+    );
+}
+
+#[test]
+fn bands_scattered_beyond_their_sigma_widen_it_by_the_birge_ratio() {
+    let (mut bands, _) = nickel_exact();
+    // One band 15 σ off: the fit absorbs most of it, χ² ≈ 3.6 is left.
+    bands[2].energy += 15.0 * bands[2].sigma.unwrap();
+    let best = fit(&nickel_request(bands.clone())).unwrap().best;
+    assert_eq!(best.degrees_of_freedom, 1);
+    assert!(best.chi2 > 1.0, "χ² = {}", best.chi2);
+    let b = best.parameters.b.unwrap().value;
+    let at = Params {
+        dq: best.parameters.dq.value,
+        b,
+        c: 4.5 * b,
+    };
+    // s² = χ²/ν with ν = 1 (Birge ratio rule, χ²_ν > 1).
+    let expected = nickel_sigma_delta_from_band_sigmas(&bands, at) * best.chi2.sqrt();
+    let sigma = best.derived.delta.sigma.unwrap();
+    assert!(
+        rel(sigma, expected) < 1e-4,
+        "σ(Δ) {sigma} against {expected}"
+    );
+}
+
+#[test]
+fn the_sigma_of_delta_from_two_chromium_bands_is_that_of_the_first() {
+    // d³ Oh: E(⁴T₂g) − E(⁴A₂g) = 10Dq exactly (Tanabe & Sugano 1954; any
+    // ligand-field text), so with no degree of freedom left σ(Δ) = σ(ν₁).
+    let req = FitRequest {
+        n: 3,
+        bands: vec![
+            ObservedBand {
+                sigma: Some(50.0),
+                ..ObservedBand::at(17_400.0)
+            },
+            ObservedBand {
+                sigma: Some(80.0),
+                ..ObservedBand::at(24_600.0)
+            },
+        ],
+        c_over_b: Some(4.0),
+        ..Default::default()
+    };
+    let best = fit(&req).unwrap().best;
+    assert_eq!(best.degrees_of_freedom, 0);
+    let s = best.derived.delta.sigma.unwrap();
+    assert!((s - 50.0).abs() < 1e-3, "σ(Δ) = {s}");
+}
+
+#[test]
+fn c_is_fitted_when_the_quartet_bands_determine_it() {
+    // Mn²⁺ quartets placed by the engine at C/B = 5.75, far from the default
+    // 4.5: without asking, C is fitted and found again (issue 17: B came out
+    // 15 % high when C/B stayed at the free-ion value).
+    let ((dq, b, c), quartets) = manganese_quartets();
+    let best = fit(&FitRequest {
+        n: 5,
+        bands: bands(&quartets),
+        spin_forbidden: true,
+        ..Default::default()
+    })
+    .unwrap()
+    .best;
+    assert_eq!(best.free, ["Dq", "B", "C"]);
+    assert!(best.held.is_empty(), "{:?}", best.held);
+    let fitted = best.parameters.c.unwrap();
+    assert!(fitted.determined && fitted.sigma.is_some());
+    assert!(rel(fitted.value, c) < 1e-5, "C {}", fitted.value);
+    assert!(rel(best.parameters.b.unwrap().value, b) < 1e-5);
+    assert!(rel(best.parameters.dq.value, dq) < 1e-5);
+}
+
+#[test]
+fn c_asked_free_with_no_band_depending_on_it_is_held_and_said_so() {
+    // d⁸ Oh triplets depend on B only (³F–³P = 15B; Racah, from memory of
+    // any ligand-field text), so three of them cannot determine C.
+    let (bands, _) = nickel_exact();
+    let out = fit(&FitRequest {
+        free_c: true,
+        ..nickel_request(bands)
+    })
+    .unwrap();
+    let best = &out.best;
+    assert_eq!(best.free, ["Dq", "B"]);
+    let held: Vec<&str> = best.held.iter().map(|h| h.parameter.as_str()).collect();
+    assert_eq!(held, ["C"]);
+    assert!(rel(best.held[0].value, 4.5 * 880.0) < 1e-6);
+    assert!(best.held[0]
+        .reason
+        .starts_with(ddlens::lf_fit::NO_BAND_DEPENDS_ON_C));
+    let c = best.parameters.c.unwrap();
+    assert!(!c.determined && c.sigma.is_none());
+    assert!(
+        c.to_string().contains("not determined by these bands"),
+        "{c}"
+    );
+    let refusal = out.refuse_unfittable_c().unwrap_err().to_string();
+    assert!(refusal.starts_with("C cannot be fitted"), "{refusal}");
+    // Not asked for: nothing is listed as held and nothing refused.
+    let (bands, _) = nickel_exact();
+    let plain = fit(&nickel_request(bands)).unwrap();
+    assert!(plain.best.held.is_empty());
+    assert!(plain.refuse_unfittable_c().is_ok());
+}
+
+#[test]
+fn free_c_is_refused_by_the_cli_with_a_sentence_when_no_band_depends_on_c() {
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_ddlens"))
+        .args(["fit", "--ion", "Ni2+", "--band", "8500", "--band", "13800"])
+        .args(["--band", "25300", "--free-c"])
+        .output()
+        .unwrap();
+    assert!(!out.status.success());
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        err.contains("C cannot be fitted: no assigned band"),
+        "{err}"
+    );
+}
+
+#[test]
+fn one_band_holds_b_and_reports_it_as_held() {
+    // Co²⁺ Oh: ⁴T₁g(F)→⁴T₂g depends on B through the ⁴T₁g(F)/(P) mixing, so
+    // one band fixes Dq only at a chosen B.
+    let out = fit(&FitRequest {
+        ion: Some("Co2+".into()),
+        bands: vec![ObservedBand {
+            assign: Some("4T2g".into()),
+            ..ObservedBand::at(8_100.0)
+        }],
+        ..Default::default()
+    })
+    .unwrap();
+    let best = &out.best;
+    let held: Vec<&str> = best.held.iter().map(|h| h.parameter.as_str()).collect();
+    assert_eq!(held, ["B"]);
+    let b = best.parameters.b.unwrap();
+    assert!(!b.determined && b.sigma.is_none());
+    let b0 = best.derived.b0.unwrap();
+    assert!(
+        (b.value - 0.8 * b0).abs() < 1e-9,
+        "B {} with B₀ {b0}",
+        b.value
+    );
+    assert!(best.derived.delta.determined && best.derived.delta.sigma.is_some());
+    // d³ Oh: ⁴T₂g lies at 10Dq whatever B (Tanabe & Sugano 1954), so one band
+    // needs no B at all, and none is shown or held.
+    let cr = fit(&FitRequest {
+        ion: Some("Cr3+".into()),
+        bands: bands(&[17_400.0]),
+        ..Default::default()
+    })
+    .unwrap()
+    .best;
+    assert!(cr.held.is_empty() && cr.parameters.b.is_none());
+    assert!(rel(cr.derived.delta.value, 17_400.0) < 1e-9);
+}
+
+#[test]
+fn listed_alternatives_are_physical_distinct_and_measured_from_the_minimum() {
+    // The V³⁺ band set of the β test: many assignments fit, some badly.
+    let out = fit(&FitRequest {
+        ion: Some("V3+".into()),
+        bands: bands(&[6600.0, 13000.0, 19200.0]),
+        spin_forbidden: true,
+        ..Default::default()
+    })
+    .unwrap();
+    let all: Vec<_> = std::iter::once(&out.best)
+        .chain(&out.alternatives)
+        .collect();
+    assert!(all.len() > 2, "only {} listed", all.len());
+    let min = all.iter().map(|s| s.chi2).fold(f64::INFINITY, f64::min);
+    let mut seen = Vec::new();
+    for s in &all {
+        assert!(s.delta_chi2 >= 0.0);
+        assert!((s.delta_chi2 - (s.chi2 - min)).abs() < 1e-9);
+        let b = s.parameters.b.unwrap();
+        assert!(b.value > 1.0 && b.value.is_finite());
+        assert!(s.derived.beta.is_none_or(|x| x.value <= 1.1));
+        let states: Vec<&str> = s.assignment.iter().map(|a| a.state.as_str()).collect();
+        assert!(!seen.contains(&states), "{states:?} listed twice");
+        seen.push(states);
+    }
+    assert!(all.iter().any(|s| s.delta_chi2 == 0.0));
 }

@@ -8,14 +8,6 @@ use crate::bands::{BaselineModel, Shape};
 use crate::preprocess::BaselineMethod;
 use serde::Serialize;
 
-/// Floor of a band maximum's uncertainty for the ligand-field fit, as a
-/// fraction of its energy, added in quadrature to the σ of the centre from the
-/// deconvolution's covariance: an allowance for the band-shape model (a
-/// symmetric shape fitted to a skewed band puts its centre off the maximum;
-/// common practice: maxima of broad d–d bands are rarely reproducible to
-/// better than a few tenths of a per cent).
-pub const POSITION_ALLOWANCE: f64 = 0.002;
-
 /// A band is assigned only when its height is at least this many noise σ
 /// (common practice: a feature under about 3σ is not a detection).
 pub const SIGNIFICANT_HEIGHT: f64 = 3.0;
@@ -107,7 +99,6 @@ pub struct Cleaning {
 pub struct Defaults {
     /// C/B used when the ion's free-ion table gives none.
     pub c_over_b_fallback: f64,
-    pub position_allowance: f64,
     pub choice_match: f64,
     pub narrow_band: f64,
     /// Significance test: least height in noise σ, least area as a fraction
@@ -135,7 +126,6 @@ impl Defaults {
     pub fn get() -> Self {
         Defaults {
             c_over_b_fallback: crate::lf_fit::DEFAULT_C_OVER_B,
-            position_allowance: POSITION_ALLOWANCE,
             choice_match: CHOICE_MATCH,
             narrow_band: NARROW_BAND,
             significant_height: SIGNIFICANT_HEIGHT,

@@ -23,10 +23,10 @@
 //!   ([`Outcome`]);
 //! - a band's position uncertainty for the ligand-field fit is the σ of its
 //!   centre from the deconvolution's covariance (which scales with the
-//!   residual scatter, i.e. the noise), combined in quadrature with a floor of
-//!   [`defaults::POSITION_ALLOWANCE`] of its energy for the band-shape model
-//!   (a symmetric shape fitted to a skewed band puts the centre off the
-//!   maximum);
+//!   residual scatter, i.e. the noise), with no fixed allowance: a band shape
+//!   that does not match (a symmetric shape fitted to a skewed band) shows as
+//!   a misfit of the ligand-field model, which scales σ up by the Birge ratio
+//!   ([`crate::stats::ErrorScale::AtLeastStated`]);
 //! - bands narrower than 800 cm⁻¹ are read as spin-flip lines, so spin-forbidden
 //!   transitions are considered (common practice: spin-forbidden intraconfigurational
 //!   bands are tens to hundreds of cm⁻¹ wide);
@@ -333,10 +333,9 @@ pub fn observed_bands(fit: &BandFit, quantity: Quantity) -> Vec<ObservedBand> {
         .filter(|b| b.left_out.is_none() && b.centre.value.is_finite() && b.centre.value > 0.0)
         .map(|b| {
             let energy = b.maximum.unwrap_or(b.centre.value);
-            let stat = b.centre.sigma.unwrap_or(0.0);
             ObservedBand {
                 energy,
-                sigma: Some((stat * stat + (defaults::POSITION_ALLOWANCE * energy).powi(2)).sqrt()),
+                sigma: b.centre.sigma.filter(|s| s.is_finite() && *s > 0.0),
                 epsilon: (quantity == Quantity::MolarAbsorptivity).then_some(b.height.value),
                 fwhm: Some(b.fwhm.value),
                 not_dd: false,

@@ -22,30 +22,6 @@ pub enum Outcome {
     Underdetermined,
 }
 
-/// A parameter the bands cannot determine, held at a value.
-#[derive(Debug, Clone, PartialEq)]
-pub struct HeldParameter {
-    pub parameter: String,
-    pub value: f64,
-}
-
-/// The parameters a solution held because its bands cannot determine them.
-///
-/// Read from the solution itself: B is held when only Dq was fitted although
-/// B enters the band (one band of a dⁿ other than d¹/d⁹ whose energy depends
-/// on B; a B-independent band such as ν1 = 10Dq of Ni²⁺ leaves B out of the
-/// result instead). The one place to repoint when the solution lists what it held.
-pub fn held_parameters(best: &Solution) -> Vec<HeldParameter> {
-    let only_dq = best.free.len() == 1;
-    match (&best.parameters.b, only_dq) {
-        (Some(b), true) => vec![HeldParameter {
-            parameter: "B".into(),
-            value: b.value,
-        }],
-        _ => Vec::new(),
-    }
-}
-
 /// Every band the best solution assigns goes to a spin-forbidden state.
 fn only_spin_forbidden(best: &Solution) -> bool {
     let allowed = |state: &str| {
@@ -91,7 +67,7 @@ pub fn outcome_of(
     let best = &fit?.best;
     let bands = best.assignment.len();
     let plural = if bands == 1 { "" } else { "s" };
-    let held = held_parameters(best);
+    let held = &best.held;
     if only_spin_forbidden(best) {
         return Some((
             Outcome::NoSpinAllowedBands,

@@ -37,6 +37,9 @@ pub fn run(words: &[String]) -> Result<String, CliError> {
     req.max_prediction = p.max_prediction;
     req.observed_from = p.observed_from;
     let outcome = lf_fit::fit(&req).map_err(|e| CliError::Failed(e.to_string()))?;
+    outcome
+        .refuse_unfittable_c()
+        .map_err(|e| CliError::Failed(e.to_string()))?;
     if p.json {
         return json_text(&outcome);
     }
@@ -105,11 +108,13 @@ pub fn print_outcome(out: &mut String, o: &FitOutcome) {
     print_solution(out, &o.best);
     outln!(out, "  predicted transitions from {}:", o.best.ground);
     for p in &o.best.predicted {
-        let sigma = p.sigma.map_or(String::new(), |s| format!(" ± {s:.0}"));
+        // σ to two digits and the energy to match (`Estimate`'s one rule).
+        let energy = p.sigma.map_or(format!("{:.0}", p.energy), |s| {
+            ddlens::estimate::Estimate::new(p.energy, s).to_string()
+        });
         outln!(
             out,
-            "    {:>9.0}{sigma:<8} cm⁻¹  {:>7.1} nm  {:<10} {}{}",
-            p.energy,
+            "    {energy:>17} cm⁻¹  {:>7.1} nm  {:<10} {}{}",
             1e7 / p.energy,
             p.state,
             if p.spin_allowed {

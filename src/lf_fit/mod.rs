@@ -30,6 +30,7 @@
 //! B = (ν2² + 2ν1² − 3ν1ν2)/(15ν2 − 27ν1) (Lever 1984, from memory), and the
 //! Underhill–Billing relations (Nature 210 (1966) 834).
 
+mod rank;
 mod refine;
 mod search;
 
@@ -182,6 +183,17 @@ pub struct SpinState {
     pub margin: Option<f64>,
 }
 
+/// A parameter the assigned bands do not determine, held at a stated value.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Held {
+    /// "B" or "C".
+    pub parameter: String,
+    /// The value it was held at, cm⁻¹.
+    pub value: f64,
+    /// Why, as a sentence.
+    pub reason: String,
+}
+
 /// One assignment and its fit.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Solution {
@@ -210,9 +222,19 @@ pub struct Solution {
     /// with the result, so a reloaded project ranks and compares the same).
     #[serde(default)]
     pub score: f64,
+    /// Parameters the bands do not determine, held at a stated value (their
+    /// estimates have `determined: false`); empty when every one was fitted.
+    #[serde(default)]
+    pub held: Vec<Held>,
 }
 
 /// The best solution and the ranked alternatives.
+///
+/// Order: assignments that pass every plausibility check first, then by
+/// `score`. Listed are only physical fits (B > 0, β ≤ 1.1, no parameter on
+/// its bound, every number finite), each assignment once, and no two with
+/// the same parameters within their σ; `delta_chi2` is measured from the
+/// smallest χ² among the best and the alternatives, so it is never negative.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct FitOutcome {
     pub best: Solution,
@@ -244,6 +266,8 @@ pub enum LfFitError {
     NoFit(String),
     /// The ligand-field engine refused the input.
     Model(LfError),
+    /// Freeing C was asked for, but no assigned band depends on C.
+    CNotDetermined(String),
 }
 
 impl fmt::Display for LfFitError {
@@ -264,6 +288,10 @@ impl fmt::Display for LfFitError {
                 "no state '{s}' exists for this configuration and geometry"
             ),
             LfFitError::Model(e) => e.fmt(f),
+            LfFitError::CNotDetermined(states) => write!(
+                f,
+                "C cannot be fitted: no assigned band ({states}) depends on C, so C/B is held; leave out free C or assign a band that depends on C (a spin-forbidden one)"
+            ),
         }
     }
 }
@@ -273,6 +301,28 @@ impl std::error::Error for LfFitError {}
 impl From<LfError> for LfFitError {
     fn from(e: LfError) -> Self {
         LfFitError::Model(e)
+    }
+}
+
+/// The reason a held C gives when no assigned band depends on C.
+pub const NO_BAND_DEPENDS_ON_C: &str = "no assigned band depends on C";
+
+impl FitOutcome {
+    /// Refuses a fit that asked for C free when no band of the best
+    /// assignment depends on C (`ddlens fit --free-c`): the answer would
+    /// present C/B as fitted while it is only the value given.
+    pub fn refuse_unfittable_c(&self) -> Result<(), LfFitError> {
+        let no_band = |h: &Held| h.parameter == "C" && h.reason.starts_with(NO_BAND_DEPENDS_ON_C);
+        if self.best.held.iter().any(no_band) {
+            let states: Vec<&str> = self
+                .best
+                .assignment
+                .iter()
+                .map(|a| a.state.as_str())
+                .collect();
+            return Err(LfFitError::CNotDetermined(states.join(", ")));
+        }
+        Ok(())
     }
 }
 
@@ -437,7 +487,7 @@ pub fn names_state(n: u8, geometry: Geometry, name: &str) -> bool {
 /// ```
 pub fn fit(req: &FitRequest) -> Result<FitOutcome, LfFitError> {
     let problem = check(req)?;
-    let mut solutions = if let Some(single) = refine::single_state(&problem)? {
+    let solutions = if let Some(single) = refine::single_state(&problem)? {
         vec![single]
     } else {
         let tuples = search::assignments(&problem)?;
@@ -456,7 +506,7 @@ pub fn fit(req: &FitRequest) -> Result<FitOutcome, LfFitError> {
         }
         out
     };
-    refine::rank(&mut solutions);
+    let solutions = rank::rank(solutions);
     let mut warnings = problem.warnings.clone();
     let mut iter = solutions.into_iter();
     let Some(best) = iter.next() else {

@@ -9,7 +9,9 @@
 //! bound and is reported with its χ², never as a solution with B ≤ 0.
 
 use super::search::{is_candidate, keys, start_index, Tuple};
-use super::{Assigned, Derived, LfFitError, Parameters, Predicted, Problem, Solution, SpinState};
+use super::{
+    Assigned, Derived, Held, LfFitError, Parameters, Predicted, Problem, Solution, SpinState,
+};
 use crate::estimate::Estimate;
 use crate::ligand_field::{check_params, model, spin_change, Geometry, Level, Params};
 use crate::solver::{self, LeastSquares, LmOptions};
@@ -174,37 +176,39 @@ fn solve(p: &Problem, t: &Tuple, free: Free, theta: &[f64]) -> Option<(Vec<f64>,
     Some((report.x, ev))
 }
 
+/// C counts as determined by the bands when its σ from the band positions
+/// alone is below a third of its value: C resolved at 3σ (common practice
+/// for calling a fitted parameter significant).
+const C_DETERMINED: f64 = 1.0 / 3.0;
+
 /// Fits one assignment and builds its solution.
+///
+/// Dq and B are fitted with C = γB; then C is freed whenever the assigned
+/// bands determine it ([`C_DETERMINED`]; asked for or not). A parameter the
+/// bands do not determine is held and listed in [`Solution::held`]. The
+/// ranking score uses the χ² at C = γB for every assignment, so a C freed
+/// by three bands (χ² = 0) does not outrank the rest for its extra parameter.
 pub(crate) fn fit_assignment(p: &Problem, t: &Tuple) -> Result<Solution, LfFitError> {
     let k = p.bands.len();
     let b_start = t.b.max(1.0);
     let dq_start = t.delta_over_b * b_start / 10.0;
     let mut warnings = Vec::new();
+    let mut held = Vec::new();
     let free = if p.n == 1 || p.n == 9 {
         Free::Dq {
             b: b_start,
             b_matters: false,
         }
     } else if k == 1 {
-        let b = p.b0.as_ref().map_or(800.0, |(b0, _)| 0.8 * b0);
-        let probe = evaluate(p, t, Free::DqB, &[dq_start.max(1.0), b]);
-        let b_matters = probe.is_some_and(|e| e.jacobian[(0, 1)].abs() > 1e-9);
-        if b_matters {
-            warnings.push(format!(
-                "one band cannot fix both Dq and B: B was held at {b:.0} cm⁻¹ ({}), and Δ depends on that choice",
-                if p.b0.is_some() { "0.8 × B₀" } else { "a typical value" }
-            ));
-        }
-        Free::Dq { b, b_matters }
-    } else if p.free_c && k >= 3 {
-        Free::DqBC
+        hold_b(
+            p,
+            t,
+            dq_start,
+            "one band cannot fix both Dq and B",
+            &mut warnings,
+            &mut held,
+        )
     } else {
-        if p.free_c {
-            warnings.push(format!(
-                "freeing C needs at least three bands: C/B was held at {:.2}",
-                p.gamma
-            ));
-        }
         Free::DqB
     };
     let theta0: Vec<f64> = match free {
@@ -213,15 +217,44 @@ pub(crate) fn fit_assignment(p: &Problem, t: &Tuple) -> Result<Solution, LfFitEr
         } else {
             t.delta_over_b * b / 10.0
         }],
-        Free::DqB => vec![dq_start, b_start],
-        Free::DqBC => vec![dq_start, b_start, p.gamma * b_start],
+        _ => vec![dq_start, b_start],
     };
-    let (theta, ev) = solve(p, t, free, &theta0).ok_or_else(|| {
+    let left = || {
         LfFitError::NoFit(
             "the fit left the physical range (a parameter became zero or negative)".into(),
         )
-    })?;
-    let mut solution = build(p, free, &theta, &ev, warnings);
+    };
+    let (mut free, mut theta, mut ev) = solve(p, t, free, &theta0)
+        .map(|(th, ev)| (free, th, ev))
+        .ok_or_else(left)?;
+    let rank_chi2 = ev.residual.norm_squared();
+    // A fit that ran to the bound has no minimum with B > 0: it stays as it
+    // is (and is not listed), rather than becoming a fit at a held B.
+    let on_bound = theta.iter().any(|v| *v <= super::rank::ON_BOUND);
+    if free == Free::DqB && !on_bound && covariance(&ev, k, 2).is_none() {
+        let f = hold_b(
+            p,
+            t,
+            theta[0],
+            "these bands do not determine B",
+            &mut warnings,
+            &mut held,
+        );
+        (theta, ev) = solve(p, t, f, &[theta[0]]).ok_or_else(left)?;
+        free = f;
+    } else if free == Free::DqB {
+        if let Some((th, e)) = free_c(p, t, &theta, &mut warnings, &mut held) {
+            (free, theta, ev) = (Free::DqBC, th, e);
+        }
+    }
+    let mut solution = build(p, free, &theta, &ev, warnings, held, rank_chi2);
+    if free == Free::DqBC && !p.free_c {
+        solution.notes.push(format!(
+            "C was fitted because the assigned bands determine it (C/B = {:.2}; free-ion or default C/B {:.2})",
+            theta[2] / theta[1],
+            p.gamma
+        ));
+    }
     if free == Free::DqB && k >= 3 {
         if let Some((lo, hi)) = pairwise_b(p, t, &theta) {
             if hi - lo > 0.1 * 0.5 * (hi + lo) {
@@ -232,6 +265,76 @@ pub(crate) fn fit_assignment(p: &Problem, t: &Tuple) -> Result<Solution, LfFitEr
         }
     }
     Ok(solution)
+}
+
+/// Dq alone with B held at 0.8·B₀ (or a typical 800 cm⁻¹), listed as held
+/// when the bands depend on B at all.
+fn hold_b(
+    p: &Problem,
+    t: &Tuple,
+    dq: f64,
+    why: &str,
+    warnings: &mut Vec<String>,
+    held: &mut Vec<Held>,
+) -> Free {
+    let b = p.b0.as_ref().map_or(800.0, |(b0, _)| 0.8 * b0);
+    let probe = evaluate(p, t, Free::DqB, &[dq.max(1.0), b]);
+    let b_matters = probe.is_some_and(|e| e.jacobian.column(1).amax() > 1e-9);
+    if b_matters {
+        let source = if p.b0.is_some() {
+            "0.8 × B₀"
+        } else {
+            "a typical value"
+        };
+        warnings.push(format!(
+            "{why}: B was held at {b:.0} cm⁻¹ ({source}), and Δ depends on that choice"
+        ));
+        held.push(Held {
+            parameter: "B".into(),
+            value: b,
+            reason: format!("{why}: held at {source}"),
+        });
+    }
+    Free::Dq { b, b_matters }
+}
+
+/// From the (Dq, B) fit `theta`: the (Dq, B, C) fit when the bands
+/// determine C; otherwise None, and C is listed as held if freeing it was asked for.
+fn free_c(
+    p: &Problem,
+    t: &Tuple,
+    theta: &[f64],
+    warnings: &mut Vec<String>,
+    held: &mut Vec<Held>,
+) -> Option<(Vec<f64>, Eval)> {
+    let k = p.bands.len();
+    let c0 = p.gamma * theta[1];
+    let start = [theta[0], theta[1], c0];
+    let probe = evaluate(p, t, Free::DqBC, &start)?;
+    let depends = probe.jacobian.column(2).amax() > 1e-9;
+    let determined = k >= 3
+        && covariance(&probe, k, 3)
+            .and_then(|c| c.sigma(2))
+            .is_some_and(|s| s < C_DETERMINED * c0);
+    let fitted = determined
+        .then(|| solve(p, t, Free::DqBC, &start))
+        .flatten();
+    if fitted.is_none() && p.free_c {
+        let reason = if !depends {
+            super::NO_BAND_DEPENDS_ON_C.to_string()
+        } else if k < 3 {
+            "freeing C needs at least three bands".to_string()
+        } else {
+            "the assigned bands do not determine C to better than a third of its value".to_string()
+        };
+        warnings.push(format!("{reason}: C/B was held at {:.2}", p.gamma));
+        held.push(Held {
+            parameter: "C".into(),
+            value: c0,
+            reason: format!("{reason}: held at C/B = {:.2}", p.gamma),
+        });
+    }
+    fitted
 }
 
 /// B fitted to every pair of the assigned bands (with Dq), as a consistency check.
@@ -261,12 +364,13 @@ fn pairwise_b(p: &Problem, t: &Tuple, theta: &[f64]) -> Option<(f64, f64)> {
     (bs.len() >= 2).then_some((lo, hi))
 }
 
-/// The covariance of θ: (JᵀJ)⁺, scaled by χ²/(k − p) when over-determined
-/// (by 1 when exactly determined), from [`crate::stats`]. A rank-deficient
+/// The covariance of θ: (JᵀJ)⁺ from [`crate::stats`], scaled by
+/// max(1, χ²/(k − p)) (1 when exactly determined): never smaller than the
+/// band-position σ alone give (the Birge ratio rule). A rank-deficient
 /// J, or one with condition above 1/√ε (so JᵀJ has no digit left), gives
 /// None: those bands do not determine every parameter.
 fn covariance(ev: &Eval, points: usize, parameters: usize) -> Option<Covariance> {
-    let scale = ErrorScale::ReducedChi2 {
+    let scale = ErrorScale::AtLeastStated {
         chi2: ev.residual.norm_squared(),
         points,
         parameters,
@@ -284,7 +388,16 @@ fn propagate(cov: Option<&Covariance>, value: f64, grad: &[f64]) -> Estimate {
     }
 }
 
-fn build(p: &Problem, free: Free, theta: &[f64], ev: &Eval, mut warnings: Vec<String>) -> Solution {
+/// The solution of a finished fit; `rank_chi2` is the χ² its score starts from.
+fn build(
+    p: &Problem,
+    free: Free,
+    theta: &[f64],
+    ev: &Eval,
+    mut warnings: Vec<String>,
+    held: Vec<Held>,
+    rank_chi2: f64,
+) -> Solution {
     let k = p.bands.len();
     let np = free.count();
     let dof = k as i64 - np as i64;
@@ -298,7 +411,8 @@ fn build(p: &Problem, free: Free, theta: &[f64], ev: &Eval, mut warnings: Vec<St
     }
     let c = cov.as_ref();
     let pr = params(free, theta, p.gamma);
-    let (parameters, derived) = estimates(p, free, pr, c);
+    let (mut parameters, mut derived) = estimates(p, free, pr, c);
+    mark_held(&held, &mut parameters, &mut derived);
     let start = &ev.levels[ev.start];
     let assignment = assigned(p, ev);
     let predicted = predictions(p, ev, free, c);
@@ -323,7 +437,28 @@ fn build(p: &Problem, free: Free, theta: &[f64], ev: &Eval, mut warnings: Vec<St
         plausible,
         warnings,
         notes,
-        score: chi2 + 4.0 * skipped as f64,
+        score: rank_chi2 + 4.0 * skipped as f64,
+        held,
+    }
+}
+
+/// Every estimate that rests on a held parameter is marked as held: B
+/// (with C = γB, β, Dq/B, Δ/B), or C (with C/B).
+fn mark_held(held: &[Held], parameters: &mut Parameters, derived: &mut Derived) {
+    let hold = |e: &mut Option<Estimate>| {
+        if let Some(v) = e {
+            *v = Estimate::held(v.value);
+        }
+    };
+    for h in held {
+        if h.parameter == "B" {
+            hold(&mut parameters.b);
+            hold(&mut derived.beta);
+            hold(&mut derived.dq_over_b);
+            hold(&mut derived.delta_over_b);
+        }
+        hold(&mut parameters.c);
+        hold(&mut derived.c_over_b);
     }
 }
 
@@ -381,10 +516,7 @@ fn estimates(p: &Problem, free: Free, pr: Params, c: Option<&Covariance>) -> (Pa
             )),
         ),
     };
-    let scale_est = |e: Estimate, f: f64| Estimate {
-        value: e.value * f,
-        sigma: e.sigma.map(|s| s * f.abs()),
-    };
+    let scale_est = |e: Estimate, f: f64| e.scaled(f);
     let beta = match (&b, &p.b0) {
         (Some(bv), Some((b0, _))) if matches!(free, Free::DqB | Free::DqBC) => {
             Some(scale_est(*bv, 1.0 / b0))
@@ -699,18 +831,6 @@ pub(crate) fn single_state(p: &Problem) -> Result<Option<Solution>, LfFitError> 
             e.typeset
         )],
         score: 0.0,
+        held: Vec::new(),
     }))
-}
-
-/// Sorts plausible solutions first, then by score; fills Δχ².
-pub(crate) fn rank(solutions: &mut [Solution]) {
-    solutions.sort_by(|a, b| {
-        (!a.plausible)
-            .cmp(&!b.plausible)
-            .then(a.score.total_cmp(&b.score))
-    });
-    let best = solutions.first().map_or(0.0, |s| s.chi2);
-    for s in solutions.iter_mut() {
-        s.delta_chi2 = s.chi2 - best;
-    }
 }

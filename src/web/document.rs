@@ -157,14 +157,17 @@ pub fn defaults() -> Result<JsValue, JsError> {
 }
 
 /// A value with its σ (or none) as the engine writes it: `Estimate`'s
-/// rounding, digit groups of thin spaces; a dash for a non-finite value.
+/// rounding, digit groups of thin spaces; a dash for a non-finite value;
+/// `determined: false` (an `Estimate`'s field; absent means true) writes it
+/// as held.
 #[wasm_bindgen]
-pub fn format_estimate(value: f64, sigma: Option<f64>) -> String {
-    match sigma {
+pub fn format_estimate(value: f64, sigma: Option<f64>, determined: Option<bool>) -> String {
+    let e = match sigma {
+        _ if determined == Some(false) => Estimate::held(value),
         Some(s) => Estimate::new(value, s),
         None => Estimate::exact(value),
-    }
-    .grouped()
+    };
+    e.grouped()
 }
 
 /// One text cell of a CSV export (`spectrum::csv::text_cell`): a cell that a

@@ -7,7 +7,7 @@
 // diagram, read-out), so undo restores them together; `state.lf` is the
 // record of the sample selected in the Cleaning panel.
 /** A value with its σ as the engine writes it (`Estimate`), with a unit, or a dash. */
-const fmt = (e, unit = '') => (e && Number.isFinite(e.value) ? `${wasm_bindgen.format_estimate(e.value, e.sigma == null ? undefined : e.sigma)}${unit}` : '—');
+const fmt = (e, unit = '') => (e && Number.isFinite(e.value) ? `${wasm_bindgen.format_estimate(e.value, e.sigma == null ? undefined : e.sigma, e.determined === false ? false : undefined)}${unit}` : '—');
 /** χ², with a rounding-level value of an exactly determined fit shown as 0. */
 const chi2Text = (v) => (v < 1e-9 ? '0' : v.toPrecision(3));
 /** A whole number without a minus sign on zero, or a dash. */

@@ -37,7 +37,7 @@ function reportData() {
       ['B₀ for β', d.b0 ? `${d.b0} cm⁻¹, ${d.b0_source}` : 'none known'],
       ['spin-forbidden transitions', c.spin_forbidden ? 'considered' : 'considered only for narrow bands or chosen states'],
       ['bands', `${setup.model ? `${setup.model.bands.length} as set in the Bands panel (${setup.model.bands.filter((b) => b.fixed.length).length} with locked values)` : setup.count.fixed ? `${setup.count.fixed} (fixed)` : `count chosen by BIC (up to ${setup.count.auto})`}, ${setup.shape} shape, ${baselineText(a.bands.baseline.model)} baseline${setup.baseline == null && !setup.model ? ` (${DEFAULTS.baseline_candidates.map(baselineText).join(' or ')}, chosen by BIC)` : ''}, points weighted by their share of the wavenumber axis`],
-      ['band position uncertainty', `fitted σ combined with ${100 * DEFAULTS.position_allowance} % of the energy (band-shape allowance)`],
+      ['band position uncertainty', 'σ of each band centre from the band fit\'s covariance (scaled by the residual scatter); no fixed allowance'],
       ['cleaning', s.steps.length ? s.steps.map(stepText).join('; ') : 'none (the file\'s data)'],
       ['assignment', choices.length ? `search with the chosen bands fixed: ${choices.join('; ')}` : 'automatic search over the candidate transitions'],
     ],
