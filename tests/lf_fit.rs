@@ -218,6 +218,8 @@ fn round_trip_every_configuration_and_geometry() {
                 geometry,
                 bands: bands(&allowed[..2]),
                 c_over_b: Some(gamma),
+                // The spectrum covers ν1 (Δt = 5 000 here), so no band may be skipped.
+                observed_from: Some(0.0),
                 ..Default::default()
             };
             let best = fit(&req)
@@ -346,17 +348,13 @@ fn bad_input_gives_plain_errors() {
         bands: bands(&[20000.0, 25000.0]),
         ..Default::default()
     });
-    // d5 without spin-forbidden bands: only the low-spin branch has spin-allowed bands,
-    // and its fits are flagged as inconsistent with the weak field they need.
-    if let Ok(o) = e {
-        assert!(
-            o.best
-                .warnings
-                .iter()
-                .any(|w| w.contains("spin state") || w.contains("Dq/B"))
-                || o.best.spin.state == "low-spin"
-        );
-    }
+    // d5 without spin-forbidden bands asked for: high-spin d5 has no spin-allowed
+    // band, so the sextet → quartet transitions are considered, and said so.
+    let o = e.unwrap();
+    assert!(o
+        .warnings
+        .iter()
+        .any(|w| w.contains("high-spin d5 has no spin-allowed")));
     let e = fit(&FitRequest {
         n: 3,
         c_over_b: Some(f64::INFINITY),
