@@ -390,3 +390,50 @@ fn jorgensen_estimate_is_shown_next_to_the_fit() {
         none.jorgensen.is_none() && none.warnings.iter().any(|w| w.contains("not in Jørgensen"))
     );
 }
+
+#[test]
+fn a_narrow_line_is_only_a_spin_forbidden_candidate() {
+    // A line 300 cm⁻¹ wide beside the two broad bands of [Cr(H2O)6]3+ (17 400,
+    // 24 600; reference notes §1a, SRC [S16]) can only be a spin-flip band (²Eg
+    // or ²T1g near 14 100–14 750, CALC in the notes), without --spin-forbidden.
+    let mut b = bands(&[14_900.0, 17_400.0, 24_600.0]);
+    b[0].fwhm = Some(300.0);
+    let out = fit(&FitRequest {
+        n: 0,
+        ion: Some("Cr3+".into()),
+        bands: b,
+        c_over_b: Some(4.0),
+        ..Default::default()
+    })
+    .unwrap();
+    let states: Vec<&str> = out
+        .best
+        .assignment
+        .iter()
+        .map(|a| a.state.as_str())
+        .collect();
+    assert!(states[0].starts_with('2'), "{states:?}");
+    assert_eq!(&states[1..], ["4T2g", "4T1g(F)"]);
+    assert!(out.warnings.iter().any(|w| w.contains("spin-flip line")));
+}
+
+#[test]
+fn a_delta_far_from_jorgensens_estimate_is_pointed_out() {
+    // [Cr(H2O)6]3+ estimate f·g = 1.00 · 17 400 (Jørgensen 1971, notes SRC [S1]);
+    // bands of a Δ ≈ 26 000 complex named as an aqua ion are 49 % off.
+    let req = |e: &[f64]| FitRequest {
+        n: 0,
+        ion: Some("Cr3+".into()),
+        ligand: Some("H2O".into()),
+        bands: bands(e),
+        ..Default::default()
+    };
+    let far = fit(&req(&[26_000.0, 34_000.0])).unwrap();
+    assert!(
+        far.warnings.iter().any(|w| w.contains("Jørgensen")),
+        "{:?}",
+        far.warnings
+    );
+    let near = fit(&req(&[17_400.0, 24_600.0])).unwrap();
+    assert!(!near.warnings.iter().any(|w| w.contains("Jørgensen")));
+}

@@ -21,10 +21,14 @@
 //!    the band uncertainties when exactly determined.
 //! 4. **Ranking**: plausible solutions before implausible ones (β > 1.05 or
 //!    < 0.3, Dq/B outside 0.2–6, an intensity that does not fit the
-//!    assignment, a spin state inconsistent with the fitted field), then by
-//!    χ² plus a small penalty for each lower spin-allowed transition left
-//!    unobserved (common practice: the lowest spin-allowed bands are the ones
-//!    seen; higher ones hide under charge transfer).
+//!    assignment, a spin state inconsistent with the fitted field where the
+//!    bands determine B), then by χ² plus a small penalty for each lower
+//!    spin-allowed transition left unobserved inside the measured range
+//!    (from [`DEFAULT_OBSERVED_FROM`] unless given; common practice: the
+//!    lowest spin-allowed bands are the ones seen; higher ones hide under
+//!    charge transfer) plus the soft priors of [`chem`] (typical β, a held B,
+//!    broad bands read as spin-forbidden). Ties the band positions cannot
+//!    break are reported with what broke them.
 //!
 //! The closed forms this reproduces (tested): ν1 = 10Dq for octahedral d³/d⁸,
 //! B = (ν2² + 2ν1² − 3ν1ν2)/(15ν2 − 27ν1) (Lever 1984, from memory), and the
