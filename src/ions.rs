@@ -18,6 +18,7 @@
 //!   Field Theory and Its Applications* (2000); recalled from memory, not
 //!   checked against the papers. The 4d and 5d ions have none here.
 
+use crate::ligand_field::Geometry;
 use serde::Serialize;
 
 /// Name of Jolly's table.
@@ -411,13 +412,19 @@ pub struct JorgensenEstimate {
     pub source: String,
 }
 
-/// The estimates, where the table has the factors (see [`Ligand`]).
-pub fn jorgensen(ion: &Ion, ligand: &Ligand) -> JorgensenEstimate {
+/// The estimates, where the table has the factors (see [`Ligand`]). The table's
+/// f·g is for octahedral sites; a tetrahedral site gets Δt ≈ 4/9 · f·g
+/// (reference notes, SRC [S42]; the point-charge and angular-overlap ratio).
+pub fn jorgensen(ion: &Ion, ligand: &Ligand, geometry: Geometry) -> JorgensenEstimate {
+    let (factor, rule) = match geometry {
+        Geometry::Tetrahedral => (4.0 / 9.0, "4/9 · f·g"),
+        Geometry::Octahedral => (1.0, "f·g"),
+    };
     JorgensenEstimate {
         ligand: ligand.name.to_string(),
-        delta: ion.jorgensen_g.map(|g| ligand.f * g),
+        delta: ion.jorgensen_g.map(|g| factor * ligand.f * g),
         beta: ion.jorgensen_k.zip(ligand.h).map(|(k, h)| 1.0 - h * k),
-        source: "Jørgensen 1971, f·g and 1 − h·k (rule of thumb)".to_string(),
+        source: format!("Jørgensen 1971, {rule} and 1 − h·k (rule of thumb)"),
     }
 }
 
@@ -463,16 +470,25 @@ mod tests {
     fn jorgensen_rules_reproduce_the_worked_checks() {
         // [Cr(H2O)6]3+: f·g = 17 400 and β = 1 − 1.0·0.21 = 0.79; [FeF6]3−:
         // 1 − β = 0.8·0.24 = 0.19 (reference notes §6, worked checks against S1/S16/S53).
-        let cr = jorgensen(&ion("Cr3+").unwrap(), &ligand("H2O").unwrap());
+        let oh = Geometry::Octahedral;
+        let cr = jorgensen(&ion("Cr3+").unwrap(), &ligand("H2O").unwrap(), oh);
         assert_eq!(cr.delta, Some(17400.0));
         assert!((cr.beta.unwrap() - 0.79).abs() < 1e-12);
-        let fe = jorgensen(&ion("Fe3+").unwrap(), &ligand("F").unwrap());
+        let fe = jorgensen(&ion("Fe3+").unwrap(), &ligand("F").unwrap(), oh);
         assert!((1.0 - fe.beta.unwrap() - 0.19).abs() < 0.005); // 0.192, quoted as 0.19
         assert!(ligand("unobtainium").is_none());
         assert_eq!(
-            jorgensen(&ion("Ti3+").unwrap(), &ligand("H2O").unwrap()).delta,
+            jorgensen(&ion("Ti3+").unwrap(), &ligand("H2O").unwrap(), oh).delta,
             None
         );
+        // Tetrahedral: Δt ≈ 4/9 Δo (reference notes, SRC [S42]).
+        let td = jorgensen(
+            &ion("Co2+").unwrap(),
+            &ligand("Cl").unwrap(),
+            Geometry::Tetrahedral,
+        );
+        let o = jorgensen(&ion("Co2+").unwrap(), &ligand("Cl").unwrap(), oh);
+        assert!((td.delta.unwrap() - 4.0 / 9.0 * o.delta.unwrap()).abs() < 1e-9);
     }
 
     #[test]

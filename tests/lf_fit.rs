@@ -218,6 +218,8 @@ fn round_trip_every_configuration_and_geometry() {
                 geometry,
                 bands: bands(&allowed[..2]),
                 c_over_b: Some(gamma),
+                // The spectrum covers ν1 (Δt = 5 000 here), so no band may be skipped.
+                observed_from: Some(0.0),
                 ..Default::default()
             };
             let best = fit(&req)
@@ -353,17 +355,13 @@ fn bad_input_gives_plain_errors() {
         bands: bands(&[20000.0, 25000.0]),
         ..Default::default()
     });
-    // d5 without spin-forbidden bands: only the low-spin branch has spin-allowed bands,
-    // and its fits are flagged as inconsistent with the weak field they need.
-    if let Ok(o) = e {
-        assert!(
-            o.best
-                .warnings
-                .iter()
-                .any(|w| w.contains("spin state") || w.contains("Dq/B"))
-                || o.best.spin.state == "low-spin"
-        );
-    }
+    // d5 without spin-forbidden bands asked for: high-spin d5 has no spin-allowed
+    // band, so the sextet → quartet transitions are considered, and said so.
+    let o = e.unwrap();
+    assert!(o
+        .warnings
+        .iter()
+        .any(|w| w.contains("high-spin d5 has no spin-allowed")));
     let e = fit(&FitRequest {
         n: 3,
         c_over_b: Some(f64::INFINITY),
@@ -656,4 +654,51 @@ fn listed_alternatives_are_physical_distinct_and_measured_from_the_minimum() {
         seen.push(states);
     }
     assert!(all.iter().any(|s| s.delta_chi2 == 0.0));
+}
+
+#[test]
+fn a_narrow_line_is_only_a_spin_forbidden_candidate() {
+    // A line 300 cm⁻¹ wide beside the two broad bands of [Cr(H2O)6]3+ (17 400,
+    // 24 600; reference notes §1a, SRC [S16]) can only be a spin-flip band (²Eg
+    // or ²T1g near 14 100–14 750, CALC in the notes), without --spin-forbidden.
+    let mut b = bands(&[14_900.0, 17_400.0, 24_600.0]);
+    b[0].fwhm = Some(300.0);
+    let out = fit(&FitRequest {
+        n: 0,
+        ion: Some("Cr3+".into()),
+        bands: b,
+        c_over_b: Some(4.0),
+        ..Default::default()
+    })
+    .unwrap();
+    let states: Vec<&str> = out
+        .best
+        .assignment
+        .iter()
+        .map(|a| a.state.as_str())
+        .collect();
+    assert!(states[0].starts_with('2'), "{states:?}");
+    assert_eq!(&states[1..], ["4T2g", "4T1g(F)"]);
+    assert!(out.warnings.iter().any(|w| w.contains("spin-flip line")));
+}
+
+#[test]
+fn a_delta_far_from_jorgensens_estimate_is_pointed_out() {
+    // [Cr(H2O)6]3+ estimate f·g = 1.00 · 17 400 (Jørgensen 1971, notes SRC [S1]);
+    // bands of a Δ ≈ 26 000 complex named as an aqua ion are 49 % off.
+    let req = |e: &[f64]| FitRequest {
+        n: 0,
+        ion: Some("Cr3+".into()),
+        ligand: Some("H2O".into()),
+        bands: bands(e),
+        ..Default::default()
+    };
+    let far = fit(&req(&[26_000.0, 34_000.0])).unwrap();
+    assert!(
+        far.warnings.iter().any(|w| w.contains("Jørgensen")),
+        "{:?}",
+        far.warnings
+    );
+    let near = fit(&req(&[17_400.0, 24_600.0])).unwrap();
+    assert!(!near.warnings.iter().any(|w| w.contains("Jørgensen")));
 }

@@ -21,15 +21,20 @@
 //!    the band uncertainties when exactly determined.
 //! 4. **Ranking**: plausible solutions before implausible ones (β > 1.05 or
 //!    < 0.3, Dq/B outside 0.2–6, an intensity that does not fit the
-//!    assignment, a spin state inconsistent with the fitted field), then by
-//!    χ² plus a small penalty for each lower spin-allowed transition left
-//!    unobserved (common practice: the lowest spin-allowed bands are the ones
-//!    seen; higher ones hide under charge transfer).
+//!    assignment, a spin state inconsistent with the fitted field where the
+//!    bands determine B), then by χ² plus a small penalty for each lower
+//!    spin-allowed transition left unobserved inside the measured range
+//!    (from [`DEFAULT_OBSERVED_FROM`] unless given; common practice: the
+//!    lowest spin-allowed bands are the ones seen; higher ones hide under
+//!    charge transfer) plus the soft priors of [`chem`] (typical β, a held B,
+//!    broad bands read as spin-forbidden). Ties the band positions cannot
+//!    break are reported with what broke them.
 //!
 //! The closed forms this reproduces (tested): ν1 = 10Dq for octahedral d³/d⁸,
 //! B = (ν2² + 2ν1² − 3ν1ν2)/(15ν2 − 27ν1) (Lever 1984, from memory), and the
 //! Underhill–Billing relations (Nature 210 (1966) 834).
 
+pub mod chem;
 mod rank;
 mod refine;
 mod search;
@@ -333,6 +338,17 @@ pub const DEFAULT_C_OVER_B: f64 = 4.5;
 /// (common practice: d–d spectra are rarely measured beyond 50 000 cm⁻¹, 200 nm).
 pub const DEFAULT_MAX_PREDICTION: f64 = 50_000.0;
 
+/// Where a spectrum is taken to start when the request does not say, cm⁻¹
+/// (2 000 nm; common practice: solution spectra rarely reach further into the
+/// near infrared, where solvent overtones and cell windows absorb). A
+/// transition below it cannot have been seen, so leaving it unassigned costs
+/// nothing in the ranking.
+pub const DEFAULT_OBSERVED_FROM: f64 = 5000.0;
+
+/// A Δ further than this fraction from Jørgensen's f·g (×4/9 tetrahedral) is
+/// pointed out (common practice: the rule holds to some 10–20 %).
+pub const JORGENSEN_TOLERANCE: f64 = 0.4;
+
 /// The checked problem every later stage works on.
 pub(crate) struct Problem {
     pub n: u8,
@@ -349,25 +365,8 @@ pub(crate) struct Problem {
     pub warnings: Vec<String>,
 }
 
-fn check(req: &FitRequest) -> Result<Problem, LfFitError> {
-    let ion = match &req.ion {
-        Some(s) => Some(ions::ion(s).ok_or_else(|| LfFitError::UnknownIon(s.clone()))?),
-        None => None,
-    };
-    let mut warnings = Vec::new();
-    let n = match &ion {
-        Some(i) => {
-            if req.n != 0 && req.n != i.d_electrons {
-                warnings.push(format!(
-                    "{} is d{}: the configuration d{} given was replaced",
-                    i.symbol, i.d_electrons, req.n
-                ));
-            }
-            i.d_electrons
-        }
-        None => req.n,
-    };
-    crate::ligand_field::model(n, req.geometry)?;
+/// The d–d bands of the request, checked, ascending.
+fn checked_bands(req: &FitRequest) -> Result<Vec<ObservedBand>, LfFitError> {
     let mut bands: Vec<ObservedBand> = Vec::new();
     for (index, b) in req.bands.iter().enumerate() {
         if !b.energy.is_finite() || b.energy <= 0.0 || b.energy > 100_000.0 {
@@ -401,6 +400,29 @@ fn check(req: &FitRequest) -> Result<Problem, LfFitError> {
     {
         return Err(LfFitError::DuplicateBand(w[0].energy));
     }
+    Ok(bands)
+}
+
+fn check(req: &FitRequest) -> Result<Problem, LfFitError> {
+    let ion = match &req.ion {
+        Some(s) => Some(ions::ion(s).ok_or_else(|| LfFitError::UnknownIon(s.clone()))?),
+        None => None,
+    };
+    let mut warnings = Vec::new();
+    let n = match &ion {
+        Some(i) => {
+            if req.n != 0 && req.n != i.d_electrons {
+                warnings.push(format!(
+                    "{} is d{}: the configuration d{} given was replaced",
+                    i.symbol, i.d_electrons, req.n
+                ));
+            }
+            i.d_electrons
+        }
+        None => req.n,
+    };
+    crate::ligand_field::model(n, req.geometry)?;
+    let bands = checked_bands(req)?;
     if bands
         .iter()
         .any(|b| b.energy < 2000.0 || b.energy > 60_000.0)
@@ -436,20 +458,47 @@ fn check(req: &FitRequest) -> Result<Problem, LfFitError> {
         .max_prediction
         .filter(|v| v.is_finite() && *v > 0.0)
         .unwrap_or(DEFAULT_MAX_PREDICTION);
-    let observed_from = req.observed_from.filter(|v| v.is_finite()).unwrap_or(0.0);
-    Ok(Problem {
+    let observed_from = req
+        .observed_from
+        .filter(|v| v.is_finite())
+        .unwrap_or(DEFAULT_OBSERVED_FROM);
+    let (spin_forbidden, free_c) = d5_defaults(n, req, bands.len(), &mut warnings);
+    let mut problem = Problem {
         n,
         geometry: req.geometry,
         bands,
         sigmas,
         gamma,
-        free_c: req.free_c,
-        spin_forbidden: req.spin_forbidden,
+        free_c,
+        spin_forbidden,
         b0,
         max_prediction,
         observed_from,
         warnings,
-    })
+    };
+    let notes: Vec<String> = (0..problem.bands.len())
+        .filter_map(|i| chem::forbidden_only_reason(&problem, i))
+        .collect();
+    problem.warnings.extend(notes);
+    Ok(problem)
+}
+
+/// High-spin d⁵ has no spin-allowed d–d transition: spin-forbidden (sextet →
+/// quartet) candidates are enabled, and C is fitted when three or more bands
+/// can determine it (unless C/B was given). Returns (spin_forbidden, free_c).
+fn d5_defaults(n: u8, req: &FitRequest, bands: usize, warnings: &mut Vec<String>) -> (bool, bool) {
+    if n != 5 {
+        return (req.spin_forbidden, req.free_c);
+    }
+    if !req.spin_forbidden {
+        warnings.push("high-spin d5 has no spin-allowed d–d band: spin-forbidden (sextet → quartet) transitions were considered".into());
+    }
+    let free_c = req.free_c || (bands >= 3 && req.c_over_b.is_none());
+    if free_c && !req.free_c {
+        warnings
+            .push("C was fitted with Dq and B: the spin-forbidden bands of d5 depend on C".into());
+    }
+    (true, free_c)
 }
 
 /// Whether `name` ("4T1g(P)", "⁴T₁g(P)" or "4T1g") names a state of dⁿ in
@@ -487,25 +536,10 @@ pub fn names_state(n: u8, geometry: Geometry, name: &str) -> bool {
 /// ```
 pub fn fit(req: &FitRequest) -> Result<FitOutcome, LfFitError> {
     let problem = check(req)?;
-    let solutions = if let Some(single) = refine::single_state(&problem)? {
-        vec![single]
-    } else {
-        let tuples = search::assignments(&problem)?;
-        let mut out = Vec::new();
-        let mut last_error = None;
-        for t in &tuples {
-            match refine::fit_assignment(&problem, t) {
-                Ok(s) => out.push(s),
-                Err(e) => last_error = Some(e),
-            }
-        }
-        if out.is_empty() {
-            return Err(last_error.unwrap_or_else(|| {
-                LfFitError::NoFit("no assignment of these bands could be fitted".into())
-            }));
-        }
-        out
-    };
+    let mut solutions = candidate_solutions(&problem)?;
+    for s in &mut solutions {
+        chem::apply_priors(&problem, s);
+    }
     let solutions = rank::rank(solutions);
     let mut warnings = problem.warnings.clone();
     let mut iter = solutions.into_iter();
@@ -519,37 +553,111 @@ pub fn fit(req: &FitRequest) -> Result<FitOutcome, LfFitError> {
         warnings.push("no assignment passes every plausibility check: read the warnings of each before using any".into());
     }
     if let Some(alt) = alternatives.iter().find(|a| a.plausible) {
-        if best.plausible && alt.delta_chi2 < 1.0 {
-            let names = |s: &Solution| {
-                s.assignment
-                    .iter()
-                    .map(|a| a.state.as_str())
-                    .collect::<Vec<_>>()
-                    .join(", ")
-            };
-            warnings.push(format!(
-                "the band positions cannot tell apart the best assignment ({}) and ({}) (Δχ² = {:.2}); the ranking prefers the one that leaves no lower spin-allowed band unobserved — intensities, widths or more bands would decide",
-                names(&best), names(alt), alt.delta_chi2
-            ));
+        if best.plausible && (alt.chi2 - best.chi2).abs() < 1.0 {
+            warnings.push(tie_warning(&problem, &best, alt));
         }
     }
-    let jorgensen = match (&req.ion, &req.ligand) {
-        (Some(i), Some(l)) => match (ions::ion(i), ions::ligand(l)) {
-            (Some(i), Some(l)) => Some(ions::jorgensen(&i, &l)),
-            (_, None) => {
-                warnings.push(format!(
-                    "ligand '{l}' is not in Jørgensen's table: no estimate"
-                ));
-                None
-            }
-            _ => None,
-        },
-        _ => None,
-    };
+    let jorgensen = jorgensen_estimate(req, &best, &mut warnings);
     Ok(FitOutcome {
         best,
         alternatives,
         warnings,
         jorgensen,
     })
+}
+
+/// Every fitted assignment: the Jahn–Teller reading of a band pair (alone for
+/// d¹/d⁹, beside the searched assignments for high-spin d⁴/d⁶) and the
+/// searched ones.
+fn candidate_solutions(problem: &Problem) -> Result<Vec<Solution>, LfFitError> {
+    let single = refine::single_state(problem)?;
+    if problem.n == 1 || problem.n == 9 {
+        if let Some(s) = single {
+            return Ok(vec![s]);
+        }
+    }
+    let tuples = match search::assignments(problem) {
+        Ok(t) => t,
+        Err(e) => return single.map(|s| vec![s]).ok_or(e),
+    };
+    let mut out: Vec<Solution> = single.into_iter().collect();
+    let mut last_error = None;
+    for t in &tuples {
+        match refine::fit_assignment(problem, t) {
+            Ok(s) => out.push(s),
+            Err(e) => last_error = Some(e),
+        }
+    }
+    if out.is_empty() {
+        return Err(last_error.unwrap_or_else(|| {
+            LfFitError::NoFit("no assignment of these bands could be fitted".into())
+        }));
+    }
+    Ok(out)
+}
+
+/// The sentence for two assignments the band positions cannot tell apart:
+/// the measured range and what broke the tie.
+fn tie_warning(p: &Problem, best: &Solution, alt: &Solution) -> String {
+    let names = |s: &Solution| {
+        s.assignment
+            .iter()
+            .map(|a| a.state.as_str())
+            .collect::<Vec<_>>()
+            .join(", ")
+    };
+    let unobserved = |s: &Solution| s.score - s.chi2 - chem::prior_cost(p, s) > 1e-9;
+    let mut reasons: Vec<String> = chem::priors(p, alt)
+        .into_iter()
+        .map(|(r, _)| format!("for ({}) {r}", names(alt)))
+        .collect();
+    if unobserved(alt) && !unobserved(best) {
+        reasons.push(format!(
+            "({}) leaves a lower spin-allowed band inside the measured range unobserved",
+            names(alt)
+        ));
+    }
+    let decided = if reasons.is_empty() {
+        "nothing separates them: the order is arbitrary".to_string()
+    } else {
+        format!("the ranking decided by: {}", reasons.join("; "))
+    };
+    format!(
+        "a tie: the band positions fit ({}) and ({}) equally well (Δχ² = {:.2}); the measured range is taken to start at {:.0} cm⁻¹ (a band below it could not be seen); {decided} — intensities, widths or more bands would settle it",
+        names(best),
+        names(alt),
+        (alt.chi2 - best.chi2).abs(),
+        p.observed_from
+    )
+}
+
+/// Jørgensen's estimate for the ion and ligand, and a warning when the
+/// fitted Δ lies more than [`JORGENSEN_TOLERANCE`] from it.
+fn jorgensen_estimate(
+    req: &FitRequest,
+    best: &Solution,
+    warnings: &mut Vec<String>,
+) -> Option<ions::JorgensenEstimate> {
+    let (i, l) = (req.ion.as_ref()?, req.ligand.as_ref()?);
+    let estimate = match (ions::ion(i), ions::ligand(l)) {
+        (Some(i), Some(l)) => ions::jorgensen(&i, &l, req.geometry),
+        (_, None) => {
+            warnings.push(format!(
+                "ligand '{l}' is not in Jørgensen's table: no estimate"
+            ));
+            return None;
+        }
+        _ => return None,
+    };
+    let delta = best.derived.delta.value;
+    if let Some(e) = estimate.delta.filter(|e| *e > 0.0) {
+        if ((delta - e) / e).abs() > JORGENSEN_TOLERANCE {
+            warnings.push(format!(
+                "the fitted Δ = {delta:.0} cm⁻¹ differs by {:.0} % from Jørgensen's estimate {e:.0} cm⁻¹ (f·g{}): check the assignment, the ion's oxidation state and the geometry",
+                100.0 * (delta - e) / e,
+                if req.geometry == Geometry::Tetrahedral { " × 4/9" } else { "" }
+            ));
+        }
+    }
+    Some(estimate)
 }

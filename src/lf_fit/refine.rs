@@ -419,7 +419,7 @@ fn build(
     let plausible = plausibility(p, ev, free, pr, &derived, &mut warnings);
     consistency_warnings(&assignment, chi2, dof, &mut warnings);
     let skipped = skipped_lower(p, ev, &assignment);
-    let spin = spin_state(p, &ev.levels, pr, derived.delta_over_b.map(|e| e.value));
+    let spin = spin_state(p, ev, free, pr, derived.delta_over_b.map(|e| e.value));
     let notes = notes(p, pr, free, &derived);
     Solution {
         parameters,
@@ -598,7 +598,8 @@ fn plausibility(
         plausible = false;
         w.push(text);
     };
-    if ev.levels[0].multiplicity != start.multiplicity {
+    let b_determined = matches!(free, Free::DqB | Free::DqBC);
+    if b_determined && ev.levels[0].multiplicity != start.multiplicity {
         flag(format!("at the fitted field the ground state is {}, not {}: this spin state is inconsistent", ev.levels[0].typeset, start.typeset), warnings);
     }
     if let Some(bt) = beta {
@@ -640,6 +641,10 @@ fn plausibility(
         let allowed = ev.levels[j].multiplicity == start.multiplicity;
         if allowed && p.geometry == Geometry::Octahedral && eps > 1000.0 {
             flag(format!("the band at {:.0} cm⁻¹ (ε = {eps:.0}) is too intense for a Laporte-forbidden octahedral d–d band: charge transfer?", p.bands[i].energy), warnings);
+        } else if p.geometry == Geometry::Octahedral
+            && eps > super::chem::OCTAHEDRAL_EPSILON_WARNING
+        {
+            warnings.push(format!("the band at {:.0} cm⁻¹ has ε = {eps:.0}, above the few hundred M⁻¹cm⁻¹ of octahedral d–d bands: charge transfer, or a tetrahedral site?", p.bands[i].energy));
         } else if !allowed && eps > 10.0 {
             flag(format!("the band at {:.0} cm⁻¹ (ε = {eps:.0}) is too intense for a spin-forbidden transition", p.bands[i].energy), warnings);
         }
@@ -682,19 +687,42 @@ fn skipped_lower(p: &Problem, ev: &Eval, assignment: &[Assigned]) -> usize {
         .count()
 }
 
-fn spin_state(p: &Problem, levels: &[Level], pr: Params, delta_over_b: Option<f64>) -> SpinState {
+/// The spin state at the fitted field; where the bands do not determine B
+/// (one band, B held), the state is the assignment's own and is not tested.
+fn spin_state(
+    p: &Problem,
+    ev: &Eval,
+    free: Free,
+    pr: Params,
+    delta_over_b: Option<f64>,
+) -> SpinState {
     let gamma = if pr.b > 0.0 { pr.c / pr.b } else { p.gamma };
     let crossing = spin_change(p.n, p.geometry, gamma).ok().flatten();
     let max_mult = p.n.min(10 - p.n) + 1;
+    let b_determined = matches!(free, Free::DqB | Free::DqBC);
+    let ground = if b_determined {
+        &ev.levels[0]
+    } else {
+        &ev.levels[ev.start]
+    };
+    let name = if ground.multiplicity == max_mult {
+        "high-spin"
+    } else {
+        "low-spin"
+    };
     let state = match crossing {
         None => "only one spin state".to_string(),
-        Some(_) if levels.first().is_some_and(|l| l.multiplicity == max_mult) => "high-spin".into(),
-        Some(_) => "low-spin".into(),
+        Some(_) if b_determined => name.into(),
+        Some(_) => format!("{name} (B not determined)"),
     };
     SpinState {
         state,
         spin_change_delta_over_b: crossing,
-        margin: crossing.zip(delta_over_b).map(|(x, d)| d - x),
+        margin: if b_determined {
+            crossing.zip(delta_over_b).map(|(x, d)| d - x)
+        } else {
+            None
+        },
     }
 }
 
@@ -770,18 +798,33 @@ fn notes(p: &Problem, pr: Params, free: Free, d: &Derived) -> Vec<String> {
     out
 }
 
-/// d¹/d⁹ with two bands: a Jahn–Teller (or low-symmetry) split band; Δ is
-/// their barycentre. Returns `None` for every other case.
+/// d¹/d⁹, and high-spin d⁴/d⁶, with two bands: one spin-allowed transition
+/// split by a Jahn–Teller (or low-symmetry) distortion; Δ is the barycentre.
+/// A pair that does not look like one (see `chem::not_a_jahn_teller_pair`)
+/// is kept for d¹/d⁹ (it has no other reading) but marked implausible, and
+/// dropped for d⁴/d⁶. Returns `None` for every other case.
 pub(crate) fn single_state(p: &Problem) -> Result<Option<Solution>, LfFitError> {
-    if !(p.n == 1 || p.n == 9) || p.bands.len() != 2 {
+    if !matches!(p.n, 1 | 4 | 6 | 9) || p.bands.len() != 2 {
         return Ok(None);
     }
+    let not_pair = super::chem::not_a_jahn_teller_pair(p);
+    if not_pair.is_some() && matches!(p.n, 4 | 6) {
+        return Ok(None);
+    }
+    // At Δ/B = 10 every one of these configurations is high-spin.
     let levels = model(p.n, p.geometry)?.levels(&Params {
         dq: 1000.0,
         b: 1000.0,
         c: 4000.0,
     })?;
-    let (Some(g), Some(e)) = (levels.first(), levels.get(1)) else {
+    let Some(g) = levels.first() else {
+        return Ok(None);
+    };
+    let Some(e) = levels
+        .iter()
+        .skip(1)
+        .find(|l| l.multiplicity == g.multiplicity)
+    else {
         return Ok(None);
     };
     let (n1, n2) = (p.bands[0].energy, p.bands[1].energy);
@@ -816,7 +859,11 @@ pub(crate) fn single_state(p: &Problem) -> Result<Option<Solution>, LfFitError> 
         derived: Derived { delta: Estimate::new(delta, sigma), beta: None, b0: None, b0_source: None, dq_over_b: None, delta_over_b: None, c_over_b: None },
         ground: g.label.clone(),
         ground_typeset: g.typeset.clone(),
-        spin: SpinState { state: "only one spin state".into(), spin_change_delta_over_b: None, margin: None },
+        spin: SpinState {
+            state: if matches!(p.n, 4 | 6) { "high-spin (B not determined)" } else { "only one spin state" }.into(),
+            spin_change_delta_over_b: None,
+            margin: None,
+        },
         assignment,
         predicted,
         chi2: 0.0,
@@ -824,11 +871,12 @@ pub(crate) fn single_state(p: &Problem) -> Result<Option<Solution>, LfFitError> 
         free: vec!["Dq".into()],
         correlation: vec![vec![1.0]],
         delta_chi2: 0.0,
-        plausible: true,
-        warnings: Vec::new(),
+        plausible: not_pair.is_none(),
+        warnings: not_pair.into_iter().collect(),
         notes: vec![format!(
-            "the two bands are read as one {} transition split by a Jahn–Teller (or low-symmetry) distortion: Δ = barycentre {delta:.0} cm⁻¹, splitting {split:.0} cm⁻¹",
-            e.typeset
+            "the two bands are read as one {} transition split by a Jahn–Teller (or low-symmetry) distortion: Δ = barycentre {delta:.0} cm⁻¹, splitting {split:.0} cm⁻¹{}",
+            e.typeset,
+            if matches!(p.n, 4 | 6) { "; B does not enter, so the spin state is not tested by the bands" } else { "" }
         )],
         score: 0.0,
         held: Vec::new(),

@@ -1,7 +1,7 @@
 //! Candidate transitions and the order-preserving assignments of the
 //! observed bands to them, scored by a scan over Δ/B (see the module docs).
 
-use super::{LfFitError, Problem};
+use super::{chem, LfFitError, Problem};
 use crate::ligand_field::{model, Level, Params};
 use std::collections::{BTreeMap, HashSet};
 
@@ -152,6 +152,9 @@ fn candidate_sets(
     let k = p.bands.len();
     let mut set: HashSet<(u8, Vec<Key>)> = HashSet::new();
     let mut any_candidate = false;
+    // Candidates per band (its width and ε, see `chem`): the level list holds
+    // what any band may take, each combination what each band may take.
+    let any_forbidden = chem::any_forbidden(p);
     for &s in starts {
         for (_, levels, ks) in tables {
             let Some(i0) = start_index(levels, s) else {
@@ -159,7 +162,7 @@ fn candidate_sets(
             };
             // A band forced onto a state may take it whatever its spin; the
             // other bands only take the candidates the request allows.
-            let allowed = |j: usize| is_candidate(s, levels[j].multiplicity, p.spin_forbidden);
+            let allowed = |j: usize| is_candidate(s, levels[j].multiplicity, any_forbidden);
             let cands: Vec<usize> = (0..levels.len())
                 .filter(|&j| {
                     j != i0
@@ -176,8 +179,9 @@ fn candidate_sets(
             }
             for combo in combinations(c, k) {
                 let finals: Vec<usize> = combo.iter().map(|&i| cands[i]).collect();
-                if finals.iter().zip(forced).all(|(&j, f)| {
-                    forced_ok(&levels[j], f.as_deref()) && (f.is_some() || allowed(j))
+                if finals.iter().zip(forced).enumerate().all(|(i, (&j, f))| {
+                    forced_ok(&levels[j], f.as_deref())
+                        && (f.is_some() || chem::band_takes(p, i, s, levels[j].multiplicity))
                 }) {
                     set.insert((s, finals.iter().map(|&j| ks[j].clone()).collect()));
                 }
@@ -214,7 +218,7 @@ fn candidate_sets(
 /// nowhere on the grid. The preselection score adds penalties for a starting
 /// level that is not the ground level at that Δ/B, for an implausible B, and
 /// for lower spin-allowed transitions left out (the same rules as the final
-/// ranking).
+/// ranking; a lower band below the measured range costs nothing).
 fn scan_assignment(
     p: &Problem,
     tables: &Tables,
@@ -266,6 +270,7 @@ fn scan_assignment(
                     && !idx.contains(&j)
                     && levels[j].multiplicity == s
                     && levels[j].energy - levels[i0].energy < top
+                    && bb * (levels[j].energy - levels[i0].energy) >= p.observed_from
             })
             .count();
         let b_bad = match &p.b0 {
