@@ -30,6 +30,7 @@
 //! B = (ν2² + 2ν1² − 3ν1ν2)/(15ν2 − 27ν1) (Lever 1984, from memory), and the
 //! Underhill–Billing relations (Nature 210 (1966) 834).
 
+pub mod global;
 mod refine;
 mod search;
 
