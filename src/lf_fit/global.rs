@@ -547,26 +547,38 @@ fn baseline_basis(bl: &BaselineResult, x: &[f64]) -> (Vec<Vec<f64>>, Vec<f64>) {
     }
 }
 
-/// Lays out q: θ, widths, heights, extras, free centres, baseline.
-fn compile<'a>(start: &Start<'_>, points: &Points<'a>) -> Result<Compiled<'a>, GlobalFitError> {
-    let (fit, solution) = (start.band_fit, start.solution);
+/// Refuses points and results the global fit cannot use.
+fn check_inputs(start: &Start<'_>, points: &Points<'_>) -> Result<(), GlobalFitError> {
     let m = points.x.len();
     if points.y.len() != m || points.w.is_some_and(|w| w.len() != m) || m == 0 {
         return Err(GlobalFitError::BadData(
             "the x, y and weight columns differ in length or are empty".into(),
         ));
     }
-    if fit.bands.is_empty() {
+    if start.band_fit.bands.is_empty() {
         return Err(GlobalFitError::BadData("the band fit has no bands".into()));
     }
-    if solution.assignment.is_empty() {
+    if start.solution.assignment.is_empty() {
         return Err(GlobalFitError::NoAssignment);
     }
-    let model = ligand_field::model(start.n, start.geometry).map_err(GlobalFitError::Model)?;
-    let (theta, t0) = theta_of(solution);
-    let levels = model
-        .levels(&theta.params(&t0))
-        .map_err(GlobalFitError::Model)?;
+    Ok(())
+}
+
+/// The two-step assignment tied to the band fit's bands.
+struct Links {
+    ground: String,
+    /// For each band, the index of its transition (`None`: free centre).
+    transition_of_band: Vec<Option<usize>>,
+    final_labels: Vec<String>,
+    typesets: Vec<String>,
+    spin_allowed: Vec<bool>,
+    /// ∂E/∂Δ of each transition at the start.
+    slopes: Vec<f64>,
+}
+
+/// Each assigned state tied to the band whose maximum it was fitted to.
+fn links(start: &Start<'_>, levels: &[Level]) -> Result<Links, GlobalFitError> {
+    let (fit, solution) = (start.band_fit, start.solution);
     let level = |label: &str| {
         levels
             .iter()
@@ -574,69 +586,51 @@ fn compile<'a>(start: &Start<'_>, points: &Points<'a>) -> Result<Compiled<'a>, G
             .ok_or_else(|| GlobalFitError::UnknownState(label.to_string()))
     };
     let ground = level(&solution.ground)?;
-    let mut transition_of_band = vec![None; fit.bands.len()];
-    let mut final_labels = Vec::new();
-    let mut typesets = Vec::new();
+    let mut out = Links {
+        ground: ground.label.clone(),
+        transition_of_band: vec![None; fit.bands.len()],
+        final_labels: Vec::new(),
+        typesets: Vec::new(),
+        spin_allowed: Vec::new(),
+        slopes: Vec::new(),
+    };
     for a in &solution.assignment {
         let l = level(&a.state)?;
         if let Some(i) = band_of_assignment(fit, a.observed) {
-            if transition_of_band[i].is_none() {
-                transition_of_band[i] = Some(final_labels.len());
-                final_labels.push(l.label.clone());
-                typesets.push(l.typeset.clone());
+            if out.transition_of_band[i].is_none() {
+                out.transition_of_band[i] = Some(out.final_labels.len());
+                out.final_labels.push(l.label.clone());
+                out.typesets.push(l.typeset.clone());
+                out.spin_allowed.push(l.multiplicity == ground.multiplicity);
+                out.slopes.push((l.d_dq - ground.d_dq) / 10.0);
             }
         }
     }
-    let spin_allowed: Vec<bool> = final_labels
-        .iter()
-        .map(|f| level(f).is_ok_and(|l| l.multiplicity == ground.multiplicity))
-        .collect();
-    let mut q0 = t0.clone();
-    let mut lower: Vec<f64> = t0.iter().map(|v| v * 1e-3).collect();
-    let mut upper = vec![f64::INFINITY; t0.len()];
-    let mut push = |q0: &mut Vec<f64>, v: f64, lo: f64, hi: f64| {
-        q0.push(v);
-        lower.push(lo);
-        upper.push(hi);
-        q0.len() - 1
+    Ok(out)
+}
+
+/// Lays out q: θ, widths, heights, extras, free centres, baseline.
+fn compile<'a>(start: &Start<'_>, points: &Points<'a>) -> Result<Compiled<'a>, GlobalFitError> {
+    check_inputs(start, points)?;
+    let (fit, m) = (start.band_fit, points.x.len());
+    let model = ligand_field::model(start.n, start.geometry).map_err(GlobalFitError::Model)?;
+    let (theta, t0) = theta_of(start.solution);
+    let levels = model
+        .levels(&theta.params(&t0))
+        .map_err(GlobalFitError::Model)?;
+    let links = links(start, &levels)?;
+    let mut layout = Layout {
+        lower: t0.iter().map(|v| v * 1e-3).collect(),
+        upper: vec![f64::INFINITY; t0.len()],
+        q0: t0,
     };
     let x_lo = points.x.iter().copied().fold(f64::INFINITY, f64::min);
     let x_hi = points.x.iter().copied().fold(f64::NEG_INFINITY, f64::max);
     let span = (x_hi - x_lo).abs().max(1.0);
-    // Widths.
-    let family = |i: usize| transition_of_band[i].map(|k| spin_allowed[k]);
-    let mut shared: [Option<usize>; 2] = [None, None];
-    let mut widths = Vec::with_capacity(fit.bands.len());
-    let slopes: Vec<f64> = final_labels
-        .iter()
-        .map(|f| level(f).map_or(0.0, |l| (l.d_dq - ground.d_dq) / 10.0))
-        .collect();
-    for (i, b) in fit.bands.iter().enumerate() {
-        let w0 = b.fwhm.value.abs().max(1.0);
-        let width = match (start.options.widths, family(i)) {
-            (WidthRule::Slope, Some(true)) => {
-                let k = transition_of_band[i].unwrap_or(0);
-                let slot = *shared[0].get_or_insert_with(|| {
-                    let ratio = mean_width_ratio(fit, &transition_of_band, &slopes, &spin_allowed);
-                    push(&mut q0, ratio, 1e-6, f64::INFINITY)
-                });
-                Width::Slope { q: slot, k }
-            }
-            (WidthRule::Equal, Some(allowed)) => {
-                let f = usize::from(!allowed);
-                let slot = *shared[f].get_or_insert_with(|| {
-                    let mean = mean_width(fit, |j| family(j) == Some(allowed));
-                    push(&mut q0, mean, 1e-3 * span, 10.0 * span)
-                });
-                Width::Param(slot)
-            }
-            _ => Width::Param(push(&mut q0, w0, 1e-3 * span, 10.0 * span)),
-        };
-        widths.push(width);
-    }
+    let widths = width_terms(start, &links, &mut layout, span);
     let mut terms = Vec::with_capacity(fit.bands.len());
     for (i, b) in fit.bands.iter().enumerate() {
-        let height = push(&mut q0, b.height.value, f64::NEG_INFINITY, f64::INFINITY);
+        let height = layout.push(b.height.value, f64::NEG_INFINITY, f64::INFINITY);
         let extra = b.shape.has_extra().then(|| {
             let e = b
                 .extra
@@ -646,11 +640,11 @@ fn compile<'a>(start: &Start<'_>, points: &Points<'a>) -> Result<Compiled<'a>, G
                 Shape::Voigt => (0.0, 10.0 * span),
                 _ => (f64::NEG_INFINITY, f64::INFINITY),
             };
-            push(&mut q0, e, lo, hi)
+            layout.push(e, lo, hi)
         });
-        let centre = match transition_of_band[i] {
+        let centre = match links.transition_of_band[i] {
             Some(k) => Centre::Transition(k),
-            None => Centre::Free(push(&mut q0, b.centre.value, x_lo - span, x_hi + span)),
+            None => Centre::Free(layout.push(b.centre.value, x_lo - span, x_hi + span)),
         };
         terms.push(Term {
             shape: b.shape,
@@ -661,15 +655,15 @@ fn compile<'a>(start: &Start<'_>, points: &Points<'a>) -> Result<Compiled<'a>, G
         });
     }
     let (basis, coefficients) = baseline_basis(&fit.baseline, points.x);
-    let baseline_start = q0.len();
+    let baseline_start = layout.q0.len();
     for c in coefficients {
-        push(&mut q0, c, f64::NEG_INFINITY, f64::INFINITY);
+        layout.push(c, f64::NEG_INFINITY, f64::INFINITY);
     }
     let sqrt_w = match points.w {
         Some(w) => w.iter().map(|v| v.max(0.0).sqrt()).collect(),
         None => vec![1.0; m],
     };
-    let q_count = q0.len();
+    let q_count = layout.q0.len();
     Ok(Compiled {
         problem: Problem {
             model,
@@ -677,8 +671,8 @@ fn compile<'a>(start: &Start<'_>, points: &Points<'a>) -> Result<Compiled<'a>, G
             x: points.x,
             y: points.y,
             sqrt_w,
-            start_label: ground.label.clone(),
-            final_labels,
+            start_label: links.ground,
+            final_labels: links.final_labels,
             terms,
             baseline: Baseline {
                 basis,
@@ -687,12 +681,65 @@ fn compile<'a>(start: &Start<'_>, points: &Points<'a>) -> Result<Compiled<'a>, G
             q_count,
             slope_rule: start.options.widths == WidthRule::Slope,
         },
-        q0,
-        lower,
-        upper,
-        transition_of_band,
-        typesets,
+        q0: layout.q0,
+        lower: layout.lower,
+        upper: layout.upper,
+        transition_of_band: links.transition_of_band,
+        typesets: links.typesets,
     })
+}
+
+/// The start vector and bounds of q as they are laid out.
+struct Layout {
+    q0: Vec<f64>,
+    lower: Vec<f64>,
+    upper: Vec<f64>,
+}
+
+impl Layout {
+    fn push(&mut self, v: f64, lo: f64, hi: f64) -> usize {
+        self.q0.push(v);
+        self.lower.push(lo);
+        self.upper.push(hi);
+        self.q0.len() - 1
+    }
+}
+
+/// Each band's width by the rule: its own, a family's, or a slope factor's.
+fn width_terms(start: &Start<'_>, links: &Links, layout: &mut Layout, span: f64) -> Vec<Width> {
+    let fit = start.band_fit;
+    let family = |i: usize| links.transition_of_band[i].map(|k| links.spin_allowed[k]);
+    let mut shared: [Option<usize>; 2] = [None, None];
+    let mut widths = Vec::with_capacity(fit.bands.len());
+    for (i, b) in fit.bands.iter().enumerate() {
+        let w0 = b.fwhm.value.abs().max(1.0);
+        let width = match (start.options.widths, family(i)) {
+            (WidthRule::Slope, Some(true)) => {
+                let k = links.transition_of_band[i].unwrap_or(0);
+                let slot = *shared[0].get_or_insert_with(|| {
+                    let ratio = mean_width_ratio(
+                        fit,
+                        &links.transition_of_band,
+                        &links.slopes,
+                        &links.spin_allowed,
+                    );
+                    layout.push(ratio, 1e-6, f64::INFINITY)
+                });
+                Width::Slope { q: slot, k }
+            }
+            (WidthRule::Equal, Some(allowed)) => {
+                let f = usize::from(!allowed);
+                let slot = *shared[f].get_or_insert_with(|| {
+                    let mean = mean_width(fit, |j| family(j) == Some(allowed));
+                    layout.push(mean, 1e-3 * span, 10.0 * span)
+                });
+                Width::Param(slot)
+            }
+            _ => Width::Param(layout.push(w0, 1e-3 * span, 10.0 * span)),
+        };
+        widths.push(width);
+    }
+    widths
 }
 
 /// Mean FWHM of the bands with `take(i)`.
@@ -978,8 +1025,7 @@ fn disagreement(name: &str, global: Estimate, two_step: Estimate) -> Option<Stri
     let combined = global.sigma?.hypot(two_step.sigma?);
     ((global.value - two_step.value).abs() > combined).then(|| {
         format!(
-            "the global fit and the two-step fit disagree on {name}: {} against {} cm⁻¹, more than their combined σ ({combined:.0} cm⁻¹)",
-            global, two_step
+            "the global fit and the two-step fit disagree on {name}: {global} against {two_step} cm⁻¹, more than their combined σ ({combined:.0} cm⁻¹)"
         )
     })
 }
