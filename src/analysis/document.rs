@@ -16,6 +16,7 @@
 
 use super::{AnalysisError, Deconvolution, ImportSummary};
 use crate::bands::{BandModel, BaselineModel, Shape};
+use crate::lf_fit::global::{GlobalFit, GlobalOptions};
 use crate::lf_fit::{FitOutcome, FitRequest, ObservedBand};
 use crate::ligand_field::Geometry;
 use crate::preprocess::Step;
@@ -329,6 +330,9 @@ pub struct LigandFieldOptions {
     /// Per-band choices.
     #[serde(default)]
     pub choices: Vec<Choice>,
+    /// Also fit the spectrum with the model itself (`None`: the two-step fit only).
+    #[serde(default)]
+    pub global: Option<GlobalOptions>,
 }
 
 impl From<FitRequest> for LigandFieldOptions {
@@ -355,6 +359,7 @@ impl From<FitRequest> for LigandFieldOptions {
                     not_dd: b.not_dd,
                 })
                 .collect(),
+            global: None,
         }
     }
 }
@@ -403,6 +408,9 @@ pub struct Results {
     /// Why there is no ligand-field fit, when one was asked for.
     #[serde(default)]
     pub fit_error: Option<String>,
+    /// The global fit of the spectrum with the model, when asked for and possible.
+    #[serde(default)]
+    pub global: Option<GlobalFit>,
     /// What the cleaning and the analysis chose or noticed.
     #[serde(default)]
     pub warnings: Vec<String>,

@@ -45,6 +45,7 @@
 //!   that moves the maxima a little.
 
 use crate::bands::{self, BandFit, BandModel, BaselineModel, FitOptions};
+use crate::lf_fit::global::{self, GlobalFit};
 use crate::lf_fit::{self, FitOutcome, FitRequest, LfFitError, ObservedBand};
 use crate::preprocess::{self, Step};
 use crate::spectrum::noise::{self, Noise};
@@ -512,6 +513,42 @@ fn left_out_warnings(fit: &BandFit) -> Vec<String> {
         .collect()
 }
 
+/// The global fit of the two-step result on the band fit's points, when the
+/// ligand-field options ask for it (`Ok(None)` when they do not).
+fn global_fit(
+    s: &Spectrum,
+    setup: &BandSetup,
+    bands: &Deconvolution,
+    lf: &LigandFieldOptions,
+    outcome: &FitOutcome,
+    progress: &mut dyn FnMut(bands::lm::Progress) -> bool,
+) -> Result<Option<GlobalFit>, String> {
+    let Some(options) = lf.global else {
+        return Ok(None);
+    };
+    let (x, y, w) = enough_points(s, setup).map_err(|e| e.to_string())?;
+    let n = lf
+        .ion
+        .as_deref()
+        .and_then(crate::ions::ion)
+        .map_or(lf.n, |i| i.d_electrons);
+    let start = global::Start {
+        n,
+        geometry: lf.geometry,
+        band_fit: &bands.fit,
+        solution: &outcome.best,
+        options,
+    };
+    let points = global::Points {
+        x: &x,
+        y: &y,
+        w: Some(&w),
+    };
+    global::fit_outcome(&start, &outcome.alternatives, &points, progress)
+        .map(Some)
+        .map_err(|e| e.to_string())
+}
+
 /// The spectrum a document's sample holds, as imported (before cleaning).
 pub fn sample_spectrum(doc: &Document) -> Result<Spectrum, AnalysisError> {
     let data = doc.sample.data.as_ref().ok_or(AnalysisError::NoData)?;
@@ -567,6 +604,13 @@ pub fn analyze(
         .as_ref()
         .and_then(|_| outcome::outcome_of(a.fit.as_ref(), assignable, noise.as_ref(), s.quantity))
         .unzip();
+    let global = match (&doc.ligand_field, &a.fit) {
+        (Some(lf), Some(outcome)) => global_fit(&s, &doc.bands, &bands, lf, outcome, progress)
+            .map_err(|e| warnings.push(format!("the global fit failed: {e}")))
+            .ok()
+            .flatten(),
+        _ => None,
+    };
     let mut out = doc.clone();
     out.results = Some(Results {
         import: ImportSummary::of(&raw),
@@ -574,6 +618,7 @@ pub fn analyze(
         observed: a.observed,
         fit: a.fit,
         fit_error: a.fit_error,
+        global,
         warnings,
         noise,
         outcome,

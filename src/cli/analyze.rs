@@ -18,7 +18,7 @@ The exit code is 1 when the ligand-field fit fails (the bands are still reported
 and 0 in every outcome above.
 ";
 
-pub(super) const FLAGS: [&Flag; 22] = [
+pub(super) const FLAGS: [&Flag; 23] = [
     &flags::ION,
     &flags::CONFIG,
     &flags::GEOMETRY,
@@ -31,6 +31,7 @@ pub(super) const FLAGS: [&Flag; 22] = [
     &flags::C_OVER_B,
     &flags::FREE_C,
     &flags::SPIN_FORBIDDEN,
+    &flags::GLOBAL,
     &flags::BAND_FIX,
     &flags::B0_SOURCE,
     &flags::LIGAND,
@@ -68,6 +69,9 @@ pub fn run(words: &[String]) -> Result<String, CliError> {
         Document::import(&bytes, &file, source, super::band_fit_options(&p)).map_err(fail)?;
     doc.steps = super::cleaning_steps(&p);
     doc.ligand_field = Some(super::fit_request(&p)?.into());
+    if let Some(lf) = doc.ligand_field.as_mut().filter(|_| p.global) {
+        lf.global = Some(ddlens::lf_fit::global::GlobalOptions::default());
+    }
     let mut doc = analysis::analyze(&doc, &mut |_| true).map_err(fail)?;
     if let Some(out) = &p.save_project {
         save(&doc, out)?;

@@ -137,6 +137,8 @@ pub struct Parsed {
     pub csv: Option<String>,
     pub free_c: bool,
     pub spin_forbidden: bool,
+    /// `analyze --global`: also fit the spectrum with the ligand-field model.
+    pub global: bool,
     pub b0_source: Option<String>,
     pub ligand: Option<String>,
     pub bands: Vec<ObservedBand>,
@@ -512,6 +514,27 @@ pub const FREE_C: Flag = Flag::switch("--free-c", "fit C too (three or more band
     p.free_c = true;
     Ok(())
 });
+
+pub const GLOBAL: Flag = Flag::switch(
+    "--global",
+    "also fit the whole spectrum with the ligand-field model (band centres tied to Dq, B, C)",
+    |p, _| {
+        p.global = true;
+        Ok(())
+    },
+);
+
+#[cfg(test)]
+mod global_tests {
+    use super::*;
+    #[test]
+    fn the_global_switch_asks_for_the_global_fit() {
+        let mut p = Parsed::default();
+        assert!(!p.global);
+        (GLOBAL.update)(&mut p, None).unwrap();
+        assert!(p.global);
+    }
+}
 
 pub const SPIN_FORBIDDEN: Flag = Flag::switch(
     "--spin-forbidden",

@@ -35,6 +35,7 @@
 //! Underhill–Billing relations (Nature 210 (1966) 834).
 
 pub mod chem;
+pub mod global;
 mod rank;
 mod refine;
 mod search;

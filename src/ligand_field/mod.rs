@@ -13,6 +13,7 @@
 //! |Dq| ≤ 100 000 cm⁻¹ (negative Dq reverses the field).
 
 mod angular;
+mod curvature;
 mod determinants;
 mod diagram;
 mod eigen;
@@ -21,6 +22,7 @@ mod model;
 mod site;
 
 pub use angular::{ck, wigner_3j};
+pub use curvature::level_curvature;
 pub use diagram::{diagram, spin_change, Curve, Diagram};
 pub use field::{FieldMatrix, Ligand};
 pub use model::{Block, Irrep, Model};
