@@ -8,7 +8,7 @@
 // analysed or saved. Every change goes through edit(), so undo restores
 // them together.
 const est = (e) => fmt(e);
-const selected = () => find(Number($('clean-target').value));
+const selected = () => activeSample();
 const LOCKS = [['centre', 'centre'], ['fwhm', 'width'], ['height', 'height']];
 
 /** The document's band setup for a band count (0: chosen by BIC up to the engine's limit) and a model (null: automatic). */
@@ -56,7 +56,7 @@ function takeBandFit(t, results, previous) {
 }
 
 function storeFit(id, doc, previous) {
-  edit(() => { takeBandFit(find(id), doc.results, previous); });
+  edit(() => { markStale(find(id), 'the bands changed'); takeBandFit(find(id), doc.results, previous); });
 }
 
 async function fitBands() {
@@ -143,7 +143,7 @@ function editModel(change) {
   try {
     change(model);
     const curves = modelCurves(s, model);
-    edit(() => Object.assign(find(s.id), { model, curves, edited: true }));
+    edit(() => markStale(Object.assign(find(s.id), { model, curves, edited: true }), 'the bands changed'));
   } catch (e) {
     say(`${s.name}: ${e.message || e}`);
   }
@@ -253,6 +253,7 @@ function renderBands() {
   const s = selected();
   const m = s && s.model;
   renderBic();
+  $('bands-for').textContent = s ? `— ${s.name}` : '';
   $('band-table').hidden = !(m && m.bands.length);
   if ($('band-table').hidden) return;
   const fit = s.fit && !s.edited ? s.fit.fit : null;
