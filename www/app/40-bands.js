@@ -79,6 +79,9 @@ async function refitBands() {
     // A refit keeps the baseline model of the fit it starts from.
     const result = await runFit(s, `Refitting ${s.name}…`, s.model.bands.length, modelForDoc(s));
     storeFit(s.id, result, s.model);
+    const [lo, hi] = [s.wavenumber[0], s.wavenumber.at(-1)];
+    const odd = find(s.id).model.bands.map((b, i) => (b.centre < lo || b.centre > hi ? `band ${i + 1} ended outside the data` : !(b.height > 0) ? `band ${i + 1} ended with no height` : null)).filter(Boolean);
+    if (odd.length) say(`${s.name}: the refit left ${odd.join(' and ')}; remove it or lock its centre and refit.`);
   } catch (e) {
     jobFailed(s, 'refit', e);
   }
