@@ -319,8 +319,9 @@ function download(blob, name) {
   setTimeout(() => URL.revokeObjectURL(a.href), 10000);
 }
 
+/** Export file names follow the active sample (else the first visible one). */
 function baseName() {
-  const s = state.samples.find((v) => v.visible);
+  const s = activeSample() || state.samples.find((v) => v.visible);
   return (s ? s.name : 'ddlens').replace(/\.[a-z0-9]+$/i, '').replace(/[^\w.-]+/g, '_');
 }
 
