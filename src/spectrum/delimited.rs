@@ -454,11 +454,13 @@ impl Headers {
     }
 
     fn name(&self, k: usize, xc: usize, yc: usize, count: usize, stem: &str) -> String {
+        // A label cell ("Sample", "Name:") over the x column names the cell
+        // beside it: `Sample,QZ-2 in methanol` names the spectrum "QZ-2 in methanol".
         let from_names = self.names.as_ref().and_then(|n| {
             [xc, yc]
                 .iter()
                 .filter_map(|&c| n.get(c))
-                .find(|s| !s.is_empty())
+                .find(|s| !s.is_empty() && !is_name_label(s))
                 .cloned()
         });
         if let Some(name) = from_names {
@@ -473,6 +475,16 @@ impl Headers {
             (None, _) => format!("{stem} #{}", k + 1),
         }
     }
+}
+
+/// Whether a cell is the label of a name line ("Sample", "Sample name:",
+/// "Name") rather than a name.
+fn is_name_label(cell: &str) -> bool {
+    let label = cell.trim().trim_end_matches(':').trim().to_lowercase();
+    matches!(
+        label.as_str(),
+        "sample" | "sample name" | "sample id" | "name" | "samples"
+    )
 }
 
 /// Which columns are x and which are y.
@@ -640,6 +652,28 @@ mod tests {
         assert_eq!(sniff(&lines), (Delimiter::Comma, false));
         let lines: Vec<(usize, &str)> = vec![(1, "  400.5   0.12"), (2, "401 0.13")];
         assert_eq!(sniff(&lines), (Delimiter::Whitespace, false));
+    }
+
+    #[test]
+    fn a_sample_label_row_names_the_spectrum_by_the_cell_beside_it() {
+        let text = "Sample,QZ-2 in methanol\nWavelength (nm),Abs\n400,0.10\n401,0.12\n402,0.11\n";
+        let report = read(text, "run 3.csv").expect("a two-column table");
+        assert_eq!(report.spectra.len(), 1);
+        assert_eq!(report.spectra[0].name, "QZ-2 in methanol");
+        let labelled = "Sample name:,QZ-3\nWavelength (nm),Abs\n400,0.10\n401,0.12\n402,0.11\n";
+        assert_eq!(read(labelled, "run 4.csv").unwrap().spectra[0].name, "QZ-3");
+    }
+
+    #[test]
+    fn a_cary_name_line_still_names_each_column_pair() {
+        let text = "CrA,,CrB,\nWavelength (nm),Abs,Wavelength (nm),Abs\n400,0.1,400,0.2\n401,0.1,401,0.2\n402,0.1,402,0.2\n";
+        let names: Vec<String> = read(text, "cary.csv")
+            .unwrap()
+            .spectra
+            .into_iter()
+            .map(|s| s.name)
+            .collect();
+        assert_eq!(names, ["CrA", "CrB"]);
     }
 
     #[test]

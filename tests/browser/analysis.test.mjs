@@ -129,6 +129,7 @@ test('several samples: analyse all, each keeps its result, the table sorts by mo
   await page.waitForFunction(() => window.ddlens.state.samples.length === 3);
   await page.locator('#bands-panel > summary').click();
   await page.locator('#band-count').fill('2');
+  await page.locator('#lf-include-demo').check(); // "Analyse all" leaves the demo out unless asked
   await page.locator('#lf-analyze-all').click();
   await page.waitForFunction(() => window.ddlens.state.samples.every((s) => s.lf && s.lf.analysis.fit), null, { timeout: 60000 });
   const names = () => page.$$eval('#series-table tbody tr', (rows) => rows.map((r) => r.cells[0].textContent));

@@ -12,6 +12,8 @@ const state = {
   // Transient view state (not in the undo history): the baseline preview,
   // a band being dragged, per-move drag redraw times, the band-count comparison.
   baselinePreview: null, drag: null, dragMs: [], bic: null,
+  // The plot's layers (the `layer` of each figure line) the user chose to show.
+  layers: { raw: true, component: true, envelope: true, residual: true, prediction: true, saturation: true },
   view: { x: null, y: null, nmBottom: false, yMode: 'a' },
 };
 let worker = null;
@@ -118,6 +120,13 @@ function copyDoc(d, change) {
   change(doc);
   return doc;
 }
+/** The active sample: the one every panel works on (the list's highlighted row), or undefined. */
+const activeSample = () => find(Number($('clean-target').value));
+/** Marks a sample's results out of date (`why`: "the cleaning changed"…) when it has any. */
+function markStale(s, why) {
+  if (s && s.lf) s.stale = why;
+  return s;
+}
 /** Replaces `s.doc` by an edited copy; returns the sample. */
 function withDoc(s, change) {
   s.doc = copyDoc(s.doc, change);
@@ -153,6 +162,8 @@ function refresh() {
   $('redo-button').disabled = !history.future.length;
   renderSamples();
   renderCleanTargets();
+  renderProps();
+  renderPath();
   renderBands();
   renderLf();
   draw();

@@ -63,17 +63,23 @@ function panelSteps() {
   return steps;
 }
 
-/** Recomputes the dashed baseline preview from the panel's settings (or clears it). */
+const same = (a, b) => JSON.stringify(a) === JSON.stringify(b);
+/** Recomputes the dashed previews (the panel's smoothing, its baseline) while
+ *  the panel differs from the applied steps; none once they are applied. */
 function previewBaseline() {
   showBaselineInputs();
-  const s = find(Number($('clean-target').value));
+  const s = activeSample();
   state.baselinePreview = null;
+  state.smoothPreview = null;
   $('baseline-method').removeAttribute('aria-invalid');
   try {
     const method = s && baselineMethod();
-    if (method) {
+    const steps = [...panelSteps(), ...(method ? [STEP.baseline(method)] : [])];
+    if (s && !same(steps, s.steps)) {
       const d = cleaned(s.raw, panelSteps());
-      state.baselinePreview = { id: s.id, x: d.wavenumber, y: Array.from(wasm_bindgen.baseline(Float64Array.from(d.wavenumber), Float64Array.from(d.values), method)) };
+      const smooth = stepOf(steps, 'smooth');
+      if (smooth && !same(smooth, stepOf(s.steps, 'smooth'))) state.smoothPreview = { id: s.id, x: d.wavenumber, y: d.values };
+      if (method) state.baselinePreview = { id: s.id, x: d.wavenumber, y: Array.from(wasm_bindgen.baseline(Float64Array.from(d.wavenumber), Float64Array.from(d.values), method)) };
     }
     $('baseline-status').textContent = '';
   } catch (e) {
@@ -104,7 +110,8 @@ function renderCleanTargets() {
 }
 
 function showCleaning() {
-  const s = find(Number($('clean-target').value));
+  const s = activeSample();
+  $('cleaning-for').textContent = s ? `— ${s.name}` : '';
   const steps = s ? s.steps : [];
   const crop = stepOf(steps, 'crop'), smooth = stepOf(steps, 'smooth'), sub = stepOf(steps, 'subtract_baseline');
   $('crop-lo').value = crop ? crop.low : '';
@@ -124,7 +131,7 @@ function showCleaning() {
 
 /** Applies the panel's steps (or none) to the selected sample through the core; one undoable edit. */
 function applyCleaning(clear = false) {
-  const s = find(Number($('clean-target').value));
+  const s = activeSample();
   if (!s) return;
   let steps, out;
   try {
@@ -137,7 +144,7 @@ function applyCleaning(clear = false) {
   }
   for (const w of out.warnings || []) say(`${s.name}: ${w.message || w}`, 'info');
   edit(() => {
-    const t = withDoc(find(s.id), (d) => { d.steps = steps; d.bands.model = null; d.results = null; });
+    const t = markStale(withDoc(find(s.id), (d) => { d.steps = steps; d.bands.model = null; d.results = null; }), 'the cleaning changed');
     Object.assign(t, { wavenumber: out.wavenumber, values: out.values, cleaningWarnings: out.warnings || [], fit: null, model: null, edited: false, curves: null });
   });
 }

@@ -9,31 +9,43 @@ function shownValues(s) {
   return mode === 'eps' ? eps : eps.map((v) => (v > 0 ? Math.log10(v) : NaN));
 }
 
+/** The lines of one visible sample, each with its `layer` (what the layer toggles filter). */
+function sampleLines(s, y, plain) {
+  const lines = [], residuals = [];
+  if (s.steps.length && plain) lines.push({ layer: 'raw', x: s.raw.wavenumber, y: s.raw.values, colour: '#858585', width: 1 });
+  lines.push({ layer: 'data', x: s.wavenumber, y, colour: s.colour, width: 1.5 });
+  for (const [p, colour] of [[state.smoothPreview, s.colour], [state.baselinePreview, '#555555']]) {
+    if (p && p.id === s.id && plain) lines.push({ layer: 'preview', x: p.x, y: p.y, colour, width: 2, dashed: true });
+  }
+  const drag = state.drag && state.drag.id === s.id ? state.drag : null;
+  const c = drag ? drag.curves : s.curves;
+  if (c && plain) {
+    c.components.forEach((v, k) => lines.push({ layer: 'component', x: c.x, y: v, colour: DEFAULTS.palette[(k + 1) % DEFAULTS.palette.length], fill: true }));
+    lines.push({ layer: 'envelope', x: c.x, y: c.total, colour: '#000000', width: 1.5, dashed: true });
+    if (c.residual) residuals.push({ layer: 'residual', x: c.x, y: c.residual, colour: s.colour, width: 1 });
+  }
+  return { lines, residuals };
+}
+
 function figure() {
   const lines = [], shaded = [], residuals = [];
   let handles = [];
   const plain = state.view.yMode === 'a';
-  const target = Number($('clean-target').value);
+  const target = activeSample();
+  const shown = (l) => state.layers[l.layer] !== false;
   for (const s of state.samples) {
     if (!s.visible) continue;
     const y = shownValues(s);
     if (!y) continue;
-    if (s.steps.length && plain) lines.push({ x: s.raw.wavenumber, y: s.raw.values, colour: '#858585', width: 1 });
-    lines.push({ x: s.wavenumber, y, colour: s.colour, width: 1.5 });
-    const bp = state.baselinePreview;
-    if (bp && bp.id === s.id && plain) lines.push({ x: bp.x, y: bp.y, colour: '#555555', width: 2, dashed: true });
+    const own = sampleLines(s, y, plain);
+    lines.push(...own.lines.filter(shown));
+    residuals.push(...own.residuals.filter(shown));
     const drag = state.drag && state.drag.id === s.id ? state.drag : null;
-    const c = drag ? drag.curves : s.curves;
-    if (c && plain) {
-      c.components.forEach((v, k) => lines.push({ x: c.x, y: v, colour: DEFAULTS.palette[(k + 1) % DEFAULTS.palette.length], fill: true }));
-      lines.push({ x: c.x, y: c.total, colour: '#000000', width: 1.5, dashed: true });
-      if (c.residual) residuals.push({ x: c.x, y: c.residual, colour: s.colour, width: 1 });
-    }
-    if (s.model && s.id === target && plain) handles = bandHandles(drag ? drag.model : s.model);
-    shaded.push(...s.saturated);
+    if (s.model && target && s.id === target.id && plain) handles = bandHandles(drag ? drag.model : s.model);
+    if (state.layers.saturation) shaded.push(...s.saturated);
   }
   const v = state.view;
-  const markers = state.lf && state.samples.some((x) => x.id === state.lf.sampleId && x.visible) ? predictions() : [];
+  const markers = state.layers.prediction && state.lf && state.samples.some((x) => x.id === state.lf.sampleId && x.visible) ? predictions() : [];
   return {
     lines, shaded, markers, handles, residuals,
     x_range: v.x, y_range: v.y, nm_bottom: v.nmBottom,
@@ -49,7 +61,7 @@ function drawFigure(canvas, fig, scale) {
   const data = new Float64Array(curves.reduce((n, l) => n + 2 * l.x.length, 0));
   let at = 0;
   for (const l of curves) { data.set(l.x, at); data.set(l.y, at + l.x.length); at += 2 * l.x.length; }
-  const bare = ({ x, y, ...rest }) => rest; // eslint-disable-line no-unused-vars
+  const bare = ({ x, y, layer, ...rest }) => rest; // eslint-disable-line no-unused-vars
   return wasm_bindgen.draw_spectrum(canvas, { ...fig, lines: fig.lines.map(bare), residuals: fig.residuals.map(bare) }, data, lengths, scale);
 }
 
@@ -68,6 +80,61 @@ function draw() {
     say(`The plot could not be drawn: ${e.message || e}`);
   }
   state.lastDrawMs = performance.now() - t0;
+  showLimits();
+  showEpsilonNeeds();
+}
+
+/** Fills the typed axis limits with the drawn ranges (x in cm⁻¹), except the one being typed in. */
+function showLimits() {
+  const f = state.frame;
+  if (!f) return;
+  const [a, b] = currentX();
+  const focused = document.activeElement && document.activeElement.id;
+  const digits = (v) => String(+v.toPrecision(5));
+  for (const [id, v] of [['lim-x-lo', a], ['lim-x-hi', b], ['lim-y-lo', f.y_range[0]], ['lim-y-hi', f.y_range[1]]]) {
+    if (focused !== id) $(id).value = digits(v);
+  }
+}
+/** Sets the view from the typed axis limits (an empty pair: from the data). */
+function typedLimits(xChanged) {
+  const pair = (lo, hi) => {
+    const [a, b] = [parseFloat($(lo).value), parseFloat($(hi).value)];
+    if (!Number.isFinite(a) || !Number.isFinite(b)) return null;
+    return a === b ? undefined : [Math.min(a, b), Math.max(a, b)];
+  };
+  const x = pair('lim-x-lo', 'lim-x-hi'), y = pair('lim-y-lo', 'lim-y-hi');
+  if (x === undefined || y === undefined) { $('lim-status').textContent = 'An axis needs two different limits.'; return; }
+  $('lim-status').textContent = '';
+  state.view.x = x;
+  // A new x range autoscales y to what it shows.
+  state.view.y = xChanged ? null : y;
+  draw();
+}
+/** Says beside the y-axis choice which visible samples ε needs a concentration for. */
+function showEpsilonNeeds() {
+  const missing = state.view.yMode === 'a' ? [] : state.samples.filter((s) => s.visible && !shownValues(s));
+  $('y-mode-hint').textContent = missing.length
+    ? `ε needs a concentration and path length: set them under “Properties” for ${missing.map((s) => s.name).join(', ')}.`
+    : '';
+}
+
+/** Turns the add-band-by-clicking mode on or off: the button says so, the cursor changes, Escape ends it. */
+function setAddMode(on) {
+  const b = $('add-band-mode');
+  b.setAttribute('aria-pressed', String(on));
+  b.textContent = on ? 'Adding a band: click the plot (Esc ends)' : 'Add a band by clicking on the plot';
+  $('spectrum-canvas').classList.toggle('adding', on);
+}
+const addMode = () => $('add-band-mode').getAttribute('aria-pressed') === 'true';
+
+function wireView() {
+  for (const id of ['lim-x-lo', 'lim-x-hi', 'lim-y-lo', 'lim-y-hi']) $(id).addEventListener('change', () => typedLimits(id.startsWith('lim-x')));
+  for (const box of $('layers').querySelectorAll('input[data-layer]')) {
+    box.addEventListener('change', () => { state.layers[box.dataset.layer] = box.checked; draw(); });
+  }
+  // 90-main toggles aria-pressed first; this listener shows the mode.
+  $('add-band-mode').addEventListener('click', () => setAddMode(addMode()));
+  window.addEventListener('keydown', (e) => { if (e.key === 'Escape' && addMode()) setAddMode(false); });
 }
 function drawSoon() {
   if (drawQueued) return;
@@ -99,7 +166,7 @@ function toPixel(cm, y) {
 }
 /** The band handle (band index, 'peak' or 'width') within reach of a pointer position, or null. */
 function handleAt(p) {
-  const s = find(Number($('clean-target').value));
+  const s = activeSample();
   if (!s || !s.model || !s.visible || state.view.yMode !== 'a') return null;
   const reach = 9 * (window.devicePixelRatio || 1);
   let best = null;
@@ -157,6 +224,8 @@ function readout(event) {
 }
 
 function wirePlot() {
+  wireView();
+  wireSamples();
   const canvas = $('spectrum-canvas');
   const box = $('zoom-box');
   let drag = null;
@@ -169,8 +238,8 @@ function wirePlot() {
   canvas.addEventListener('pointerdown', (e) => {
     const p = toData(e);
     if (!p || !p.inside || e.button !== 0) return;
-    if ($('add-band-mode').getAttribute('aria-pressed') === 'true') {
-      $('add-band-mode').setAttribute('aria-pressed', 'false');
+    if (addMode()) {
+      setAddMode(false);
       addBand(p.cm, p.y);
       return;
     }
@@ -210,7 +279,7 @@ function wirePlot() {
     const d = state.drag;
     if (!d) return;
     state.drag = null;
-    if (d.moved) edit(() => Object.assign(find(d.id), { model: d.model, curves: d.curves, edited: true }));
+    if (d.moved) edit(() => markStale(Object.assign(find(d.id), { model: d.model, curves: d.curves, edited: true }), 'the bands changed'));
   });
   canvas.addEventListener('pointerup', (e) => {
     if (!drag) return;
@@ -250,8 +319,9 @@ function download(blob, name) {
   setTimeout(() => URL.revokeObjectURL(a.href), 10000);
 }
 
+/** Export file names follow the active sample (else the first visible one). */
 function baseName() {
-  const s = state.samples.find((v) => v.visible);
+  const s = activeSample() || state.samples.find((v) => v.visible);
   return (s ? s.name : 'ddlens').replace(/\.[a-z0-9]+$/i, '').replace(/[^\w.-]+/g, '_');
 }
 

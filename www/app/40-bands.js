@@ -8,7 +8,7 @@
 // analysed or saved. Every change goes through edit(), so undo restores
 // them together.
 const est = (e) => fmt(e);
-const selected = () => find(Number($('clean-target').value));
+const selected = () => activeSample();
 const LOCKS = [['centre', 'centre'], ['fwhm', 'width'], ['height', 'height']];
 
 /** The document's band setup for a band count (0: chosen by BIC up to the engine's limit) and a model (null: automatic). */
@@ -56,7 +56,7 @@ function takeBandFit(t, results, previous) {
 }
 
 function storeFit(id, doc, previous) {
-  edit(() => { takeBandFit(find(id), doc.results, previous); });
+  edit(() => { markStale(find(id), 'the bands changed'); takeBandFit(find(id), doc.results, previous); });
 }
 
 async function fitBands() {
@@ -79,6 +79,9 @@ async function refitBands() {
     // A refit keeps the baseline model of the fit it starts from.
     const result = await runFit(s, `Refitting ${s.name}…`, s.model.bands.length, modelForDoc(s));
     storeFit(s.id, result, s.model);
+    const [lo, hi] = [s.wavenumber[0], s.wavenumber.at(-1)];
+    const odd = find(s.id).model.bands.map((b, i) => (b.centre < lo || b.centre > hi ? `band ${i + 1} ended outside the data` : !(b.height > 0) ? `band ${i + 1} ended with no height` : null)).filter(Boolean);
+    if (odd.length) say(`${s.name}: the refit left ${odd.join(' and ')}; remove it or lock its centre and refit.`);
   } catch (e) {
     jobFailed(s, 'refit', e);
   }
@@ -143,7 +146,7 @@ function editModel(change) {
   try {
     change(model);
     const curves = modelCurves(s, model);
-    edit(() => Object.assign(find(s.id), { model, curves, edited: true }));
+    edit(() => markStale(Object.assign(find(s.id), { model, curves, edited: true }), 'the bands changed'));
   } catch (e) {
     say(`${s.name}: ${e.message || e}`);
   }
@@ -256,6 +259,7 @@ function renderBands() {
   const s = selected();
   const m = s && s.model;
   renderBic();
+  $('bands-for').textContent = s ? `— ${s.name}` : '';
   $('band-table').hidden = !(m && m.bands.length);
   if ($('band-table').hidden) return;
   const fit = s.fit && !s.edited ? s.fit.fit : null;

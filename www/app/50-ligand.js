@@ -12,7 +12,7 @@ const fmt = (e, unit = '') => (e && Number.isFinite(e.value) ? `${wasm_bindgen.f
 const chi2Text = (v) => (v < 1e-9 ? '0' : v.toPrecision(3));
 /** A whole number without a minus sign on zero, or a dash. */
 const whole = (v) => (v != null && Number.isFinite(v) ? String(Math.round(v) || 0) : '—');
-const selectedSample = () => find(Number($('clean-target').value));
+const selectedSample = () => activeSample();
 Object.defineProperty(state, 'lf', { get: () => { const s = selectedSample(); return (s && s.lf) || null; } });
 state.lfSort = { key: null, dir: 1 };
 
@@ -84,6 +84,7 @@ function lfRecord(s, doc, model) {
  *  band fit it used (shown in the Bands panel, editable) and the ligand-field view. */
 function takeAnalysis(t, doc) {
   t.doc = doc;
+  Object.assign(t, { stale: null, lfError: null, controls: controlsOf(doc) });
   const model = takeBandFit(t, doc.results, t.model);
   t.lf = lfRecord(t, doc, model);
   return t;
@@ -94,16 +95,23 @@ async function analyzeSample() {
   if (!s) { say('Load a spectrum first.', 'info'); return; }
   try {
     const doc = await analyse(s, lfControls(), s.choices);
-    if (!doc.results.fit) say(`${s.name}: no ligand-field fit — ${doc.results.fit_error}`);
     edit(() => { takeAnalysis(find(s.id), doc); });
-  } catch (e) { jobFailed(s, 'analysis', e); }
+  } catch (e) {
+    if (e.cancelled) { jobFailed(s, 'analysis', e); return; }
+    // The old card no longer stands: it goes, and the reason shows in its place.
+    edit(() => Object.assign(find(s.id), { lf: null, stale: null, lfError: `The analysis failed: ${e.message || e}` }));
+  }
 }
 
+/** The options a sample is analysed with: the panel's for the active one, else its own (as last set or analysed). */
+const controlsFor = (s) => (s === activeSample() ? lfControls() : s.controls || (s.lf && s.lf.controls) || lfControls());
+
+/** Analyses every sample with its own options; the demo only when asked. */
 async function analyzeAll() {
-  const controls = lfControls();
   const done = [];
-  for (const s of [...state.samples]) {
-    try { done.push([s.id, await analyse(s, controls, s.choices)]); } catch (e) { jobFailed(s, 'analysis', e); if (e.cancelled) break; }
+  const chosen = state.samples.filter((s) => !isDemo(s) || $('lf-include-demo').checked || state.samples.length === 1);
+  for (const s of chosen) {
+    try { done.push([s.id, await analyse(s, controlsFor(s), s.choices)]); } catch (e) { jobFailed(s, 'analysis', e); if (e.cancelled) break; }
   }
   const noFit = done.filter(([, d]) => !d.results.fit).map(([id]) => find(id).name);
   if (noFit.length) say(`No ligand-field fit for ${noFit.join(', ')}: see each sample's panel.`);
@@ -197,12 +205,40 @@ function choiceSelect(lf, r, options) {
   return sel;
 }
 
+/** Whether the panel's options differ from those the active sample's results rest on. */
+function optionsChanged(s) {
+  if (!s || !s.lf || s !== activeSample()) return false;
+  const now = lfControls(), then = s.lf.controls;
+  return ['ion', 'geometry', 'c_over_b', 'free_c', 'spin_forbidden', 'b0', 'ligand'].some((k) => String(now[k] ?? '') !== String(then[k] ?? ''));
+}
+
+/** The heading, the out-of-date line and, in place of the card, an outcome
+ *  other than an assignment or a failure; returns whether the card is shown. */
+function renderLfStatus(s) {
+  const r = s && s.lf && s.lf.analysis;
+  $('lf-for').textContent = s ? `— ${s.name}` : '';
+  $('lf-results-title').hidden = !(r || (s && s.lfError));
+  $('lf-results-title').textContent = s ? `Results for ${s.name}` : '';
+  const why = r && (s.stale || (optionsChanged(s) && 'the options changed'));
+  $('lf-status').hidden = !why;
+  $('lf-status-text').textContent = why ? `Out of date: ${why} since this analysis.` : '';
+  const outcome = r && r.outcome && r.outcome !== 'assigned' ? r.outcome_text || r.outcome : null;
+  const text = (s && s.lfError) || outcome || (r && !r.fit && r.fit_error ? `No ligand-field fit: ${r.fit_error}` : null);
+  $('lf-outcome').hidden = !text;
+  $('lf-outcome').textContent = text || '';
+  const noise = r && r.noise;
+  $('lf-noise').hidden = !(noise && Number.isFinite(noise.sigma));
+  if (!$('lf-noise').hidden) $('lf-noise').textContent = `Noise of the spectrum: σ ≈ ${fmt({ value: noise.sigma })} (${noise.method})`;
+  return !outcome;
+}
+
 function renderLf() {
   renderSeries();
   const lf = state.lf;
   const fit = lf && lf.analysis.fit;
-  $('lf-results').hidden = !fit;
-  if (!fit) return;
+  const cardShown = renderLfStatus(activeSample());
+  $('lf-results').hidden = !fit || !cardShown;
+  if ($('lf-results').hidden) return;
   const b = fit.best, p = b.parameters, d = b.derived;
   const card = $('lf-card').tBodies[0];
   card.replaceChildren();
@@ -382,6 +418,11 @@ function wireLf() {
   fillIons();
   $('lf-analyze').addEventListener('click', analyzeSample);
   $('lf-analyze-all').addEventListener('click', analyzeAll);
+  $('lf-reanalyse').addEventListener('click', analyzeSample);
+  for (const id of ['lf-ion', 'lf-geometry', 'lf-cb', 'lf-free-c', 'lf-spin-forbidden', 'lf-ligand', 'lf-b0']) {
+    $(id).addEventListener('change', () => { const s = activeSample(); if (s) s.controls = lfControls(); renderLfStatus(s); });
+  }
+  for (const b of $('path').querySelectorAll('button[data-step]')) b.addEventListener('click', () => goToStep(b.dataset.step));
   $('whatif-x').addEventListener('input', whatIf);
   $('whatif-b').addEventListener('input', whatIf);
   $('whatif-reset').addEventListener('click', () => { if (state.lf) { state.lf.whatIf = null; renderLf(); draw(); } });

@@ -65,11 +65,16 @@ function renderSeries() {
   try { wasm_bindgen.draw_series_plot(canvas, seriesPoints(), dpr); } catch (e) { say(`The series plot could not be drawn: ${e.message || e}`); }
 }
 
-/** Makes a sample the selected one (its result shows in the panel). */
+/** Makes a sample the active one: the list highlights it and every panel shows it. */
 function selectSample(id) {
+  if (!find(id)) return;
   $('clean-target').value = String(id);
   const s = find(id);
-  if (s && s.lf) setLfControls(s.lf.controls);
+  const controls = s.controls || (s.lf && s.lf.controls);
+  if (controls) setLfControls(controls);
+  renderSamples();
+  renderProps();
+  renderPath();
   showCleaning();
   renderBands();
   renderLf();
