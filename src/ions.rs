@@ -414,7 +414,7 @@ pub struct JorgensenEstimate {
 
 /// The estimates, where the table has the factors (see [`Ligand`]). The table's
 /// f·g is for octahedral sites; a tetrahedral site gets Δt ≈ 4/9 · f·g
-/// (reference notes, SRC [S42]; the point-charge and angular-overlap ratio).
+/// (reference notes, SRC \[S42\]; the point-charge and angular-overlap ratio).
 pub fn jorgensen(ion: &Ion, ligand: &Ligand, geometry: Geometry) -> JorgensenEstimate {
     let (factor, rule) = match geometry {
         Geometry::Tetrahedral => (4.0 / 9.0, "4/9 · f·g"),
@@ -481,7 +481,7 @@ mod tests {
             jorgensen(&ion("Ti3+").unwrap(), &ligand("H2O").unwrap(), oh).delta,
             None
         );
-        // Tetrahedral: Δt ≈ 4/9 Δo (reference notes, SRC [S42]).
+        // Tetrahedral: Δt ≈ 4/9 Δo (reference notes, SRC \[S42\]).
         let td = jorgensen(
             &ion("Co2+").unwrap(),
             &ligand("Cl").unwrap(),

@@ -112,7 +112,7 @@ pub fn guess(x: &[f64], y: &[f64], n: Option<usize>) -> Vec<BandSpec> {
 const RESIDUAL_WINDOW: usize = 5;
 
 /// One more band where a fit leaves the most signal: the largest positive
-/// residual `r` (after a running mean over [`RESIDUAL_WINDOW`] points, so one
+/// residual `r` (after a running mean over `RESIDUAL_WINDOW` points, so one
 /// noisy point does not win), its width from where the smoothed residual
 /// falls to half of that (at least `min_fwhm`), its height that maximum.
 /// Growing a band count this way keeps the bands already found and catches

@@ -9,7 +9,7 @@
 //!   wide, spin-allowed d–d bands 2 000–4 000 cm⁻¹; from memory).
 //! - A band with ε below [`WEAK_EPSILON`] can only be spin-forbidden
 //!   ([Mn(H₂O)₆]²⁺: ε ≈ 0.01–0.05, from memory; spin-allowed octahedral d–d
-//!   bands "a few to a few tens", teaching-site source [S44]).
+//!   bands "a few to a few tens", teaching-site source \[S44\]).
 //! - A broad or strong band (FWHM ≥ [`NARROW_BAND`] or ε ≥ [`STRONG_EPSILON`])
 //!   read as spin-forbidden, while spin-allowed transitions exist, costs
 //!   [`BROAD_FORBIDDEN_PENALTY`] in the ranking, one of unknown width and ε
@@ -19,7 +19,7 @@
 //! - One band whose reading depends on a B held (no B from the data) costs
 //!   [`HELD_B_PENALTY`], so a B-independent reading of the same band ranks first.
 //! - Two bands are one Jahn–Teller-split transition only when they lie at most
-//!   [`JT_MAX_SPLITTING`] apart (Ti³⁺ aqua 2 900, SRC [S12]; Fe²⁺ aqua ≈ 2 100,
+//!   [`JT_MAX_SPLITTING`] apart (Ti³⁺ aqua 2 900, SRC \[S12\]; Fe²⁺ aqua ≈ 2 100,
 //!   from memory; Cr²⁺ and Cu²⁺ up to ≈ 5 000, from memory), both are broad,
 //!   their widths within [`JT_WIDTH_RATIO`] and their heights within
 //!   [`JT_HEIGHT_RATIO`] of each other.

@@ -27,7 +27,7 @@
 //! s² = χ²/(N − P), the residual variance (no separate noise estimate is used),
 //! and every reported number propagated from it. The BIC, N ln(χ²/N) + P ln N
 //! (lmfit's definition, as for the band fit), compares assignments on the same
-//! points: [`fit_assignments`] fits each one and ranks them by it.
+//! points: [`fit_outcome`] fits each one and ranks them by it.
 
 use super::{Derived, Parameters, Solution};
 use crate::bands::shapes::{self, Shape};
