@@ -147,4 +147,7 @@ function applyCleaning(clear = false) {
     const t = markStale(withDoc(find(s.id), (d) => { d.steps = steps; d.bands.model = null; d.results = null; }), 'the cleaning changed');
     Object.assign(t, { wavenumber: out.wavenumber, values: out.values, cleaningWarnings: out.warnings || [], fit: null, model: null, edited: false, curves: null });
   });
+  // Applied: the panel now matches the steps, so no preview is left drawn (not even for the debounce).
+  clearTimeout(previewTimer);
+  previewBaseline();
 }

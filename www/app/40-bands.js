@@ -115,13 +115,14 @@ function renderBic() {
       td.textContent = v;
       tr.append(td);
     }
+    const td = document.createElement('td');
+    tr.append(td);
+    if (r.n === 0) { td.textContent = 'baseline only'; return tr; } // the no-band model is a row to compare, not a fit to pick
     const use = document.createElement('button');
     use.type = 'button';
     use.textContent = `Fit ${r.n} band${r.n > 1 ? 's' : ''}`;
     use.addEventListener('click', () => { $('band-count').value = r.n; fitBands(); });
-    const td = document.createElement('td');
     td.append(use);
-    tr.append(td);
     tr.addEventListener('click', (e) => { if (e.target === tr || e.target.tagName === 'TD') use.click(); });
     return tr;
   }));

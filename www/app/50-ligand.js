@@ -212,8 +212,11 @@ function optionsChanged(s) {
   return ['ion', 'geometry', 'c_over_b', 'free_c', 'spin_forbidden', 'b0', 'ligand'].some((k) => String(now[k] ?? '') !== String(then[k] ?? ''));
 }
 
-/** The heading, the out-of-date line and, in place of the card, an outcome
- *  other than an assignment or a failure; returns whether the card is shown. */
+/** The heading, the out-of-date line and the outcome sentence when it is not
+ *  a plain assignment or the analysis failed; returns whether the card is
+ *  shown (not when no d–d band was found: then there are no numbers; a held
+ *  parameter or spin-forbidden bands keep the fit, so the card stays below
+ *  the sentence and its choices can be changed back). */
 function renderLfStatus(s) {
   const r = s && s.lf && s.lf.analysis;
   $('lf-for').textContent = s ? `— ${s.name}` : '';
@@ -229,7 +232,7 @@ function renderLfStatus(s) {
   const noise = r && r.noise;
   $('lf-noise').hidden = !(noise && Number.isFinite(noise.sigma));
   if (!$('lf-noise').hidden) $('lf-noise').textContent = `Noise of the spectrum: σ ≈ ${fmt({ value: noise.sigma })} (${noise.method})`;
-  return !outcome;
+  return !(r && r.outcome === 'no_dd_bands');
 }
 
 function renderLf() {
