@@ -1,0 +1,69 @@
+// The global fit in the page (issue 19): "Fit the spectrum with the model"
+// runs in the worker after an analysis, Cancel stops it and leaves the
+// two-step card as it was, the card then shows the two-step and the global
+// numbers side by side, the global Δ and B match `ddlens analyze --global`
+// on the same file, and the components drawn at the model's positions follow
+// the what-if control. No request leaves the page and the console stays clean.
+import { test, before, after } from 'node:test';
+import assert from 'node:assert/strict';
+import { launch, fileUrl, openPage, analyseDemo, runCli, OUTPUT } from './harness.mjs';
+
+let browser;
+before(async () => { browser = await launch(); });
+after(async () => { await browser?.close(); });
+
+/** The dashed component lines the page adds for the global fit. */
+const globalComponents = (page) => page.evaluate(() => window.ddlens.figure().lines
+  .filter((l) => l.layer === 'component' && l.dashed)
+  .map((l) => { let k = 0; for (let i = 1; i < l.y.length; i++) if (l.y[i] > l.y[k]) k = i; return l.x[k]; }));
+
+test('the global fit runs in the worker, cancels, and shows both fits side by side with components that follow the what-if', async () => {
+  const { context, page, log } = await openPage(browser, fileUrl());
+  await analyseDemo(page);
+  await page.locator('#lf-results').waitFor({ state: 'visible' });
+
+  // Cancel: a long job ahead in the worker keeps the global fit waiting, so Cancel finds it running.
+  await page.evaluate(() => {
+    const rows = ['wavenumber (cm-1),Abs'];
+    for (let i = 0; i < 1_500_000; i++) rows.push(`${10000 + i * 0.01},${(i % 997) / 997}`);
+    const bytes = new TextEncoder().encode(rows.join('\n'));
+    window.ddlens.worker.run('import', { bytes, name: 'slow.csv', options: null }).catch(() => {});
+  });
+  await page.locator('#lf-global').click();
+  await page.locator('#busy-cancel').click();
+  await page.waitForSelector('#busy', { state: 'hidden' });
+  assert.match(await page.locator('#messages p').first().innerText(), /global fit cancelled/);
+  assert.equal(await page.evaluate(() => window.ddlens.state.lf.analysis.global ?? null), null);
+  assert.doesNotMatch(await page.locator('#lf-card').innerText(), /global fit/);
+
+  // The action itself, on the fresh worker.
+  await page.locator('#lf-global').click();
+  await page.waitForFunction(() => window.ddlens.state.lf && window.ddlens.state.lf.analysis.global, null, { timeout: 30000 });
+  const g = await page.evaluate(() => window.ddlens.state.lf.analysis.global);
+  const cli = runCli(['analyze', 'fixtures/demo/demo-crx7.csv', '--ion', 'Cr3+', '--bands', '2', '--b0-source', 'common', '--global', '--json']).global;
+  for (const [name, a, b] of [['Δ', g.derived.delta.value, cli.derived.delta.value], ['B', g.parameters.b.value, cli.parameters.b.value]]) {
+    assert.ok(Math.abs(a - b) <= 1e-3 * Math.abs(b), `${name}: page ${a} against CLI ${b}`);
+  }
+  // The demo was made with Dq = 1650 (fixtures/demo/make_demo.py).
+  assert.ok(Math.abs(g.derived.delta.value - 16500) < 150, `global Δ = ${g.derived.delta.value}`);
+  const card = await page.locator('#lf-card').innerText();
+  assert.match(card, /two-step\s+global fit/);
+  const b = card.split('\n').find((l) => /^B\s/.test(l));
+  assert.equal((b.match(/±/g) || []).length, 2, `two B columns with σ: ${b}`);
+
+  // Components at the model's positions: the Cr³⁺ ⁴T₂g band peaks at 10Dq.
+  const atFit = await globalComponents(page);
+  assert.equal(atFit.length, g.bands.length);
+  assert.ok(Math.abs(atFit[0] - g.bands[0].centre.value) < 50, `first component at ${atFit[0]}`);
+  // What-if Δ/B = 22 at B = 700: the ⁴T₂g component (10Dq) moves to 15 400 cm⁻¹ (live, no new fit).
+  await page.locator('#whatif-b').fill('700');
+  await page.locator('#whatif-x').fill('22');
+  await page.locator('#whatif-x').dispatchEvent('input');
+  await page.waitForTimeout(300);
+  const moved = await globalComponents(page);
+  assert.ok(Math.abs(moved[0] - 15400) < 50, `⁴T₂g component at ${moved[0]} after the what-if (10Dq = 22 × 700 = 15 400)`);
+  await page.screenshot({ path: `${OUTPUT}/global-fit.png`, fullPage: true });
+  assert.deepEqual(log.errors, []);
+  assert.deepEqual(log.outside, []);
+  await context.close();
+});
