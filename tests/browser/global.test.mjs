@@ -51,6 +51,15 @@ test('the global fit runs in the worker, cancels, and shows both fits side by si
   const b = card.split('\n').find((l) => /^B\s/.test(l));
   assert.equal((b.match(/±/g) || []).length, 2, `two B columns with σ: ${b}`);
 
+  // The worker's time for the job (601 points, two bands), reported, never asserted.
+  const ms = await page.evaluate(async () => {
+    const s = window.ddlens.state.samples.find((x) => x.id === window.ddlens.state.lf.sampleId);
+    const t = performance.now();
+    await window.ddlens.worker.run('global', { doc: s.doc });
+    return performance.now() - t;
+  });
+  console.log(`global fit of the demo in the worker: ${ms.toFixed(1)} ms`);
+
   // Components at the model's positions: the Cr³⁺ ⁴T₂g band peaks at 10Dq.
   const atFit = await globalComponents(page);
   assert.equal(atFit.length, g.bands.length);
