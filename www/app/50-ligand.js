@@ -243,6 +243,7 @@ function renderLf() {
   const card = $('lf-card').tBodies[0];
   card.replaceChildren();
   const global = lf.analysis.global;
+  $('lf-card').classList.remove('global-card');
   if (global) globalCard(card, fit, global); else for (const r of cardRows(fit)) row(card, r, true);
   const at = $('lf-assignment').tBodies[0];
   at.replaceChildren();

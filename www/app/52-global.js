@@ -33,6 +33,7 @@ function globalCells(fit, g) {
 
 /** The results card with the two-step numbers and the global fit's in two columns. */
 function globalCard(tbody, fit, g) {
+  tbody.closest('table').classList.add('global-card');
   const head = document.createElement('tr');
   for (const [text, scope] of [['', null], ['two-step', 'col'], ['global fit', 'col']]) {
     const th = document.createElement(scope ? 'th' : 'td');
