@@ -808,6 +808,7 @@ pub fn fit(
 ) -> Result<GlobalFit, GlobalFitError> {
     let (mut theta, mut t0) = theta_of(start.solution);
     let mut held = start.solution.held.clone();
+    let mut first = None;
     loop {
         let c = compile(start, points, theta, t0)?;
         let opts = LmOptions {
@@ -823,14 +824,20 @@ pub fn fit(
             b: start.solution.parameters.b.map(|e| e.value),
             c_over_b: start.solution.derived.c_over_b.map(|e| e.value),
         };
-        match hold_undetermined(theta, &report.x, cov.as_ref(), two_step) {
-            Some((next, h)) => {
-                t0 = report.x[..next.count()].to_vec();
-                theta = next;
-                held.push(h);
+        let Some((next, h)) = hold_undetermined(theta, &report.x, cov.as_ref(), two_step) else {
+            // Holding did not make the matrix regular: the singularity lies
+            // elsewhere (widths, a free centre), so the first fit stands, with
+            // nothing held beyond the two-step fit's and no σ.
+            if let (None, Some((c, report, _))) = (&cov, first) {
+                let held = start.solution.held.clone();
+                return Ok(build(start, &c, &report, None, held));
             }
-            None => return Ok(build(start, &c, &report, cov.as_ref(), held)),
-        }
+            return Ok(build(start, &c, &report, cov.as_ref(), held));
+        };
+        t0 = report.x[..next.count()].to_vec();
+        theta = next;
+        held.push(h);
+        first.get_or_insert((c, report, cov));
     }
 }
 
