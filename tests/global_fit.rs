@@ -125,10 +125,13 @@ impl Synthetic {
                 ..GlobalOptions::default()
             },
         };
+        // The noise as the analysis estimates it from the data
+        // (`spectrum::noise`); `None` on noiseless data.
         let points = Points {
             x: &self.x,
             y,
             w: None,
+            noise: ddlens::spectrum::noise::estimate(&self.x, y).map(|n| n.sigma),
         };
         global::fit(&start, &points, &mut |_| true).expect("the global fit runs")
     }
@@ -181,6 +184,9 @@ struct Survey {
     global_rms: [f64; 2],
     within_one: [usize; 2],
     within_two: [usize; 2],
+    /// Mean σ of Dq and B: two-step, global (printed for the closing table).
+    two_step_sigma: [f64; 2],
+    global_sigma: [f64; 2],
     draws: usize,
 }
 
@@ -191,6 +197,8 @@ fn survey(case: &Synthetic, noise: f64, draws: usize) -> Survey {
         global_rms: [0.0; 2],
         within_one: [0; 2],
         within_two: [0; 2],
+        two_step_sigma: [0.0; 2],
+        global_sigma: [0.0; 2],
         draws,
     };
     for seed in 0..draws as u64 {
@@ -206,6 +214,8 @@ fn survey(case: &Synthetic, noise: f64, draws: usize) -> Survey {
             s.two_step_rms[k] += (t.value - truth[k]).powi(2);
             s.global_rms[k] += (gl.value - truth[k]).powi(2);
             let sigma = gl.sigma.expect("the global fit has σ");
+            s.global_sigma[k] += sigma / draws as f64;
+            s.two_step_sigma[k] += t.sigma.unwrap_or(f64::NAN) / draws as f64;
             let z = (gl.value - truth[k]).abs() / sigma;
             s.within_one[k] += usize::from(z <= 1.0);
             s.within_two[k] += usize::from(z <= 2.0);
@@ -230,8 +240,9 @@ fn the_global_fit_beats_the_two_step_fit_on_overlapping_bands_and_its_sigma_cove
     for (case, dq_must_improve) in [(cobalt_shoulder(), true), (nickel_with_line(), false)] {
         let s = survey(&case, 0.01, 30);
         println!(
-            "{}: RMS error two-step Dq {:.2} B {:.2}; global Dq {:.2} B {:.2}; within 1σ {:?}, 2σ {:?} of {}",
+            "{}: RMS error two-step Dq {:.2} B {:.2}; global Dq {:.2} B {:.2}; mean σ two-step Dq {:.2} B {:.2}, global Dq {:.2} B {:.2}; within 1σ {:?}, 2σ {:?} of {}",
             case.ion, s.two_step_rms[0], s.two_step_rms[1], s.global_rms[0], s.global_rms[1],
+            s.two_step_sigma[0], s.two_step_sigma[1], s.global_sigma[0], s.global_sigma[1],
             s.within_one, s.within_two, s.draws
         );
         assert!(s.global_rms[1] < s.two_step_rms[1], "{}: B", case.ion);
@@ -311,4 +322,94 @@ fn noiseless_bands_give_the_generating_parameters_back_to_a_millionth() {
             assert_eq!(band.state.as_deref(), Some(states[i]));
         }
     }
+}
+
+fn ddlens(args: &[&str]) -> std::process::Output {
+    std::process::Command::new(env!("CARGO_BIN_EXE_ddlens"))
+        .args(args)
+        .output()
+        .expect("the binary runs")
+}
+
+/// The coverage spectrum of `tests/support/hard_cases.rs` (three Ni²⁺ bands
+/// placed by the engine at Dq 860, B 880, 0.3 % noise) written to a file.
+fn nickel_file() -> (std::path::PathBuf, ddlens::ligand_field::Params) {
+    let case = hard_cases::nickel_coverage(0.003, 0x6C0B_A100);
+    let path = std::env::temp_dir().join(format!("ddlens-global-{}.csv", std::process::id()));
+    std::fs::write(&path, case.csv()).expect("the file is written");
+    (path, hard_cases::nickel_params())
+}
+
+/// `ddlens analyze FILE --ion Ni2+ --global --json` (issue 19's command line)
+/// adds a top-level `global` object with parameters, derived numbers, bands,
+/// χ² and BIC, each parameter with its σ, while the two-step result stays in
+/// `results.fit.best`; the global Dq and B lie within 3σ of the engine's truth.
+#[test]
+fn analyze_global_json_adds_the_global_object_beside_the_two_step_result() {
+    let (path, truth) = nickel_file();
+    let file = path.to_str().expect("a UTF-8 path");
+    let out = ddlens(&["analyze", file, "--ion", "Ni2+", "--global", "--json"]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).expect("JSON");
+    assert!(v["results"]["fit"]["best"]["parameters"]["dq"]["value"].is_f64());
+    let g = &v["global"];
+    for name in ["dq", "b"] {
+        let p = &g["parameters"][name];
+        let (value, sigma) = (p["value"].as_f64(), p["sigma"].as_f64());
+        let (value, sigma) = (value.expect("value"), sigma.expect("σ"));
+        let want = if name == "dq" { truth.dq } else { truth.b };
+        assert!(
+            sigma > 0.0 && (value - want).abs() <= 3.0 * sigma,
+            "{name}: {value} ± {sigma} against {want}"
+        );
+    }
+    assert!(g["parameters"]["c"]["value"].is_f64());
+    for name in ["delta", "beta", "dq_over_b", "c_over_b"] {
+        assert!(g["derived"][name]["value"].is_f64(), "derived {name}");
+    }
+    let bands = g["bands"].as_array().expect("bands");
+    let states: Vec<&str> = bands.iter().filter_map(|b| b["state"].as_str()).collect();
+    assert_eq!(states, ["3T2g", "3T1g(F)", "3T1g(P)"]);
+    for b in bands {
+        for key in ["centre", "fwhm", "height"] {
+            assert!(
+                b[key]["sigma"].as_f64().is_some_and(|s| s > 0.0),
+                "band {key}"
+            );
+        }
+    }
+    assert!(g["chi2"].as_f64().is_some_and(|c| c > 0.0));
+    assert!(g["bic"].is_f64());
+    // Without the switch there is no global object.
+    let out = ddlens(&["analyze", file, "--ion", "Ni2+", "--json"]);
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).expect("JSON");
+    assert!(v.get("global").is_none());
+    let _ = std::fs::remove_file(&path);
+}
+
+/// The text report prints the global fit marked as such, its numbers in a
+/// column beside the two-step ones, and its bands with their states.
+#[test]
+fn analyze_global_prints_the_global_numbers_beside_the_two_step_ones() {
+    let (path, _) = nickel_file();
+    let path = path.with_extension("text.csv");
+    std::fs::write(&path, hard_cases::nickel_coverage(0.003, 7).csv()).expect("written");
+    let file = path.to_str().expect("a UTF-8 path");
+    let out = ddlens(&["analyze", file, "--ion", "Ni2+", "--global"]);
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert!(out.status.success(), "{text}");
+    assert!(text.contains("global fit ("), "{text}");
+    let mut lines = text.lines().skip_while(|l| !l.contains("two-step"));
+    let header = lines.next().expect("a header");
+    assert!(header.contains("global fit"), "{header}");
+    let row = lines
+        .find(|l| l.trim_start().starts_with("B "))
+        .expect("a B row");
+    assert_eq!(row.matches('±').count(), 2, "two B columns with σ: {row}");
+    assert!(text.contains("3T1g(P)"), "{text}");
+    let _ = std::fs::remove_file(&path);
 }

@@ -12,6 +12,8 @@ const jobs = {
   // A project file's text from the page's workspace JSON (autosave, off the main thread).
   project: (msg) => wasm_bindgen.project_to_json(msg.text),
   analyze: (msg, progress) => wasm_bindgen.analyze_document(msg.doc, (it) => { progress(it); return true; }),
+  // `analysis::fit_globally`: the spectrum of an analysed document fitted with the ligand-field model.
+  global: (msg, progress) => wasm_bindgen.global_fit_document(msg.doc, (it) => { progress(it); return true; }),
 };
 
 let ready = null;

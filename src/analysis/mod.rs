@@ -126,6 +126,10 @@ pub enum AnalysisError {
     Clean(preprocess::PreprocessError),
     /// The document holds no data and names no file to read it from.
     NoData,
+    /// The global fit was asked for on a document without a ligand-field fit.
+    NoLigandFieldFit,
+    /// The global fit could not be made.
+    Global(global::GlobalFitError),
 }
 
 impl fmt::Display for AnalysisError {
@@ -145,6 +149,10 @@ impl fmt::Display for AnalysisError {
             AnalysisError::Bands(e) => write!(f, "the band fit failed: {e}"),
             AnalysisError::Clean(e) => write!(f, "the cleaning failed: {e}"),
             AnalysisError::NoData => f.write_str("the sample holds no data to analyse"),
+            AnalysisError::NoLigandFieldFit => f.write_str(
+                "the global fit starts from the ligand-field fit of the bands, and this sample has none yet: analyse it first",
+            ),
+            AnalysisError::Global(e) => write!(f, "the global fit failed: {e}"),
         }
     }
 }
@@ -514,19 +522,21 @@ fn left_out_warnings(fit: &BandFit) -> Vec<String> {
 }
 
 /// The global fit of the two-step result on the band fit's points, when the
-/// ligand-field options ask for it (`Ok(None)` when they do not).
+/// ligand-field options ask for it (`Ok(None)` when they do not); its σ rest
+/// on the spectrum's noise where it is known (see [`global`]).
 fn global_fit(
     s: &Spectrum,
     setup: &BandSetup,
     bands: &Deconvolution,
     lf: &LigandFieldOptions,
     outcome: &FitOutcome,
+    noise: Option<&Noise>,
     progress: &mut dyn FnMut(bands::lm::Progress) -> bool,
-) -> Result<Option<GlobalFit>, String> {
+) -> Result<Option<GlobalFit>, AnalysisError> {
     let Some(options) = lf.global else {
         return Ok(None);
     };
-    let (x, y, w) = enough_points(s, setup).map_err(|e| e.to_string())?;
+    let (x, y, w) = enough_points(s, setup)?;
     let n = lf
         .ion
         .as_deref()
@@ -543,10 +553,38 @@ fn global_fit(
         x: &x,
         y: &y,
         w: Some(&w),
+        noise: noise.map(|n| n.sigma),
     };
     global::fit_outcome(&start, &outcome.alternatives, &points, progress)
         .map(Some)
-        .map_err(|e| e.to_string())
+        .map_err(AnalysisError::Global)
+}
+
+/// The global fit of an analysed document, on its results as they stand:
+/// the cleaned spectrum, the band fit, the two-step fit and the noise of
+/// `doc.results` (what [`analyze`] computes when `ligand_field.global` is
+/// set, without fitting the bands again). The options are `options`, or the
+/// document's, or the defaults; they are stored in the document, so that a
+/// later [`analyze`] recomputes the same global fit.
+pub fn fit_globally(
+    doc: &Document,
+    options: Option<global::GlobalOptions>,
+    progress: &mut dyn FnMut(bands::lm::Progress) -> bool,
+) -> Result<Document, AnalysisError> {
+    let mut out = doc.clone();
+    let (Some(lf), Some(results)) = (out.ligand_field.as_mut(), out.results.as_mut()) else {
+        return Err(AnalysisError::NoLigandFieldFit);
+    };
+    let outcome = results
+        .fit
+        .as_ref()
+        .ok_or(AnalysisError::NoLigandFieldFit)?;
+    lf.global = Some(options.or(lf.global).unwrap_or_default());
+    let raw = sample_spectrum(doc)?;
+    let (s, _) = preprocess::apply_steps(&raw, &doc.steps).map_err(AnalysisError::Clean)?;
+    let noise = results.noise.as_ref();
+    results.global = global_fit(&s, &doc.bands, &results.bands, lf, outcome, noise, progress)?;
+    Ok(out)
 }
 
 /// The spectrum a document's sample holds, as imported (before cleaning).
@@ -605,10 +643,18 @@ pub fn analyze(
         .and_then(|_| outcome::outcome_of(a.fit.as_ref(), assignable, noise.as_ref(), s.quantity))
         .unzip();
     let global = match (&doc.ligand_field, &a.fit) {
-        (Some(lf), Some(outcome)) => global_fit(&s, &doc.bands, &bands, lf, outcome, progress)
-            .map_err(|e| warnings.push(format!("the global fit failed: {e}")))
-            .ok()
-            .flatten(),
+        (Some(lf), Some(outcome)) => global_fit(
+            &s,
+            &doc.bands,
+            &bands,
+            lf,
+            outcome,
+            noise.as_ref(),
+            progress,
+        )
+        .map_err(|e| warnings.push(e.to_string()))
+        .ok()
+        .flatten(),
         _ => None,
     };
     let mut out = doc.clone();

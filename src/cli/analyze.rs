@@ -5,6 +5,9 @@
 use super::flags::{self, Flag};
 use super::{json_text, outln, CliError};
 use ddlens::analysis::{self, Document, Project, Source, SCHEMA};
+use ddlens::estimate::Estimate;
+use ddlens::lf_fit::global::GlobalFit;
+use ddlens::lf_fit::Solution;
 
 const HEADER: &str = "\
 ddlens analyze FILE [OPTIONS]
@@ -14,6 +17,9 @@ resolves its bands, assigns them and fits 10Dq, B (and C). With --project P.json
 instead of FILE, recomputes every sample of a saved project with its own settings.
 The outcome is printed as a sentence (JSON: top-level `outcome`, one of assigned,
 no_dd_bands, no_spin_allowed_bands, underdetermined, and `outcome_text`).
+With --global, the spectrum is also fitted with the ligand-field model itself
+(band centres at the model's transition energies), started from the two-step
+result; it is printed beside the two-step numbers (JSON: top-level `global`).
 The exit code is 1 when the ligand-field fit fails (the bands are still reported),
 and 0 in every outcome above.
 ";
@@ -87,8 +93,9 @@ pub fn run(words: &[String]) -> Result<String, CliError> {
     report(&doc)
 }
 
-/// The document as JSON with its results' outcome and sentence copied to the
-/// top level (where `jq .outcome` finds them; `results.fit.best` stays put).
+/// The document as JSON with its results' outcome and sentence, and the
+/// global fit when there is one, copied to the top level (where `jq .outcome`
+/// and `jq .global` find them; `results.fit.best` stays put).
 fn with_outcome(doc: &Document) -> Result<serde_json::Value, CliError> {
     let mut v = serde_json::to_value(doc).map_err(|e| CliError::Failed(e.to_string()))?;
     if let (Some(map), Some(r)) = (v.as_object_mut(), doc.results.as_ref()) {
@@ -98,6 +105,12 @@ fn with_outcome(doc: &Document) -> Result<serde_json::Value, CliError> {
             "outcome_text".into(),
             serde_json::to_value(&r.outcome_text).unwrap_or_default(),
         );
+        if let Some(g) = &r.global {
+            map.insert(
+                "global".into(),
+                serde_json::to_value(g).map_err(|e| CliError::Failed(e.to_string()))?,
+            );
+        }
     }
     Ok(v)
 }
@@ -211,7 +224,12 @@ fn report(doc: &Document) -> Result<String, CliError> {
         outln!(out, "{text}");
     }
     match (&analysis.fit, &analysis.fit_error) {
-        (Some(o), _) => super::fit::print_outcome(&mut out, o),
+        (Some(o), _) => {
+            super::fit::print_outcome(&mut out, o);
+            if let Some(g) = &analysis.global {
+                print_global(&mut out, &o.best, g);
+            }
+        }
         (None, Some(e)) => {
             outln!(out, "no ligand-field fit: {e}");
             return Err(CliError::FitFailed(out, e.clone()));
@@ -219,4 +237,69 @@ fn report(doc: &Document) -> Result<String, CliError> {
         (None, None) => {}
     }
     Ok(out)
+}
+
+/// A table cell: the estimate with its σ, "… (held)", or "—".
+fn cell(e: Option<Estimate>) -> String {
+    match e {
+        None => "—".into(),
+        Some(e) if !e.determined => format!("{} (held)", Estimate::exact(e.value)),
+        Some(e) => e.to_string(),
+    }
+}
+
+/// The global fit beside the two-step numbers, its bands at the model's
+/// positions and its warnings (among them any disagreement beyond the
+/// combined σ).
+fn print_global(out: &mut String, two: &Solution, g: &GlobalFit) {
+    outln!(
+        out,
+        "global fit (the spectrum fitted with the model; {} points, {} parameters, χ² = {:.4e}{}):",
+        g.points,
+        g.parameter_count,
+        g.chi2,
+        g.bic.map_or(String::new(), |b| format!(", BIC = {b:.1}"))
+    );
+    outln!(out, "    {:<10}{:>24}{:>24}", "", "two-step", "global fit");
+    let (t, gd) = (&two.derived, &g.derived);
+    let rows = [
+        ("Dq", Some(two.parameters.dq), Some(g.parameters.dq)),
+        ("10Dq (Δ)", Some(t.delta), Some(gd.delta)),
+        ("B", two.parameters.b, g.parameters.b),
+        ("C", two.parameters.c, g.parameters.c),
+        ("C/B", t.c_over_b, gd.c_over_b),
+        ("β", t.beta, gd.beta),
+        ("Dq/B", t.dq_over_b, gd.dq_over_b),
+    ];
+    for (name, a, b) in rows {
+        outln!(out, "    {name:<10}{:>24}{:>24}", cell(a), cell(b));
+    }
+    outln!(
+        out,
+        "  {} ({})",
+        "bands at the model's positions",
+        g.uncertainty
+    );
+    for b in &g.bands {
+        outln!(
+            out,
+            "    {:>18} cm⁻¹   FWHM {}   height {}   {}",
+            b.centre.to_string(),
+            b.fwhm,
+            b.height,
+            b.state.as_deref().unwrap_or("(free centre, not assigned)")
+        );
+    }
+    for h in &g.held {
+        outln!(
+            out,
+            "  held: {} at {:.0} cm⁻¹ ({})",
+            h.parameter,
+            h.value,
+            h.reason
+        );
+    }
+    for w in &g.warnings {
+        outln!(out, "  warning: {w}");
+    }
 }

@@ -24,12 +24,23 @@
 //! values.
 //!
 //! Uncertainties: C = s²(JᵀJ)⁺ from the final Jacobian ([`crate::stats`]) with
-//! s² = χ²/(N − P), the residual variance (no separate noise estimate is used),
-//! and every reported number propagated from it. The BIC, N ln(χ²/N) + P ln N
+//! s² = max(σ²_noise, χ²/(N − P)) when the noise σ of the spectrum is known
+//! ([`crate::spectrum::noise`], estimated before smoothing), else
+//! s² = χ²/(N − P): a misfit larger than the noise widens the σ, and a fit
+//! that follows smoothed data more closely than the noise allows never
+//! narrows it (the Birge-ratio rule of [`crate::stats::ErrorScale::AtLeastStated`],
+//! with the noise as the stated σ; the point weights are relative spacings of
+//! mean 1, so the noise applies to them as it stands). Every reported number
+//! is propagated from C. A ligand-field parameter the spectrum does not
+//! determine (σ above a third of its value, the two-step fit's rule, or a
+//! singular matrix) is not reported with a huge σ: the fit is made again with
+//! it held (C at the two-step C/B, then B at the two-step B), and it is listed
+//! in [`GlobalFit::held`] and marked held. The BIC, N ln(χ²/N) + P ln N
 //! (lmfit's definition, as for the band fit), compares assignments on the same
 //! points: [`fit_outcome`] fits each one and ranks them by it.
 
-use super::{Derived, Parameters, Solution};
+use super::refine::{mark_held, C_DETERMINED};
+use super::{Derived, Held, Parameters, Solution};
 use crate::bands::shapes::{self, Shape};
 use crate::bands::{BandFit, BaselineModel, BaselineResult, StopReason};
 use crate::estimate::Estimate;
@@ -127,6 +138,11 @@ pub struct GlobalFit {
     /// The assignments tried, lowest BIC first (empty unless asked for).
     #[serde(default)]
     pub assignments: Vec<AssignmentBic>,
+    /// Ligand-field parameters the spectrum does not determine, held at a
+    /// stated value (the two-step fit's held ones, and any the global fit
+    /// could not determine); their estimates have `determined: false`.
+    #[serde(default)]
+    pub held: Vec<Held>,
     pub warnings: Vec<String>,
 }
 
@@ -170,6 +186,8 @@ pub struct Points<'a> {
     pub y: &'a [f64],
     /// Weights (`None`: all 1).
     pub w: Option<&'a [f64]>,
+    /// The noise σ of `y` (`None`: unknown; the residual scatter is used alone).
+    pub noise: Option<f64>,
 }
 
 /// Which ligand-field parameters are fitted.
@@ -476,6 +494,8 @@ struct Compiled<'a> {
     /// For each band, the index of its transition (`None`: free centre).
     transition_of_band: Vec<Option<usize>>,
     typesets: Vec<String>,
+    /// The noise σ of the points, when known (finite, positive).
+    noise: Option<f64>,
 }
 
 /// Which θ the two-step solution fitted, and its start values.
@@ -610,11 +630,15 @@ fn links(start: &Start<'_>, levels: &[Level]) -> Result<Links, GlobalFitError> {
 }
 
 /// Lays out q: θ, widths, heights, extras, free centres, baseline.
-fn compile<'a>(start: &Start<'_>, points: &Points<'a>) -> Result<Compiled<'a>, GlobalFitError> {
+fn compile<'a>(
+    start: &Start<'_>,
+    points: &Points<'a>,
+    theta: Theta,
+    t0: Vec<f64>,
+) -> Result<Compiled<'a>, GlobalFitError> {
     check_inputs(start, points)?;
     let (fit, m) = (start.band_fit, points.x.len());
     let model = ligand_field::model(start.n, start.geometry).map_err(GlobalFitError::Model)?;
-    let (theta, t0) = theta_of(start.solution);
     let levels = model
         .levels(&theta.params(&t0))
         .map_err(GlobalFitError::Model)?;
@@ -686,6 +710,7 @@ fn compile<'a>(start: &Start<'_>, points: &Points<'a>) -> Result<Compiled<'a>, G
         upper: layout.upper,
         transition_of_band: links.transition_of_band,
         typesets: links.typesets,
+        noise: points.noise.filter(|s| s.is_finite() && *s > 0.0),
     })
 }
 
@@ -773,21 +798,136 @@ fn mean_width_ratio(
 /// Noiseless Gaussian bands placed by the engine at Dq = 860, B = 880 cm⁻¹
 /// (Ni²⁺, octahedral) come back exactly from a start 2 % off; see
 /// `tests/global_fit.rs` for the checks.
+///
+/// A ligand-field parameter the spectrum does not determine is held and the
+/// fit made again (see the module docs); at most two refits.
 pub fn fit(
     start: &Start<'_>,
     points: &Points<'_>,
     progress: &mut dyn FnMut(Progress) -> bool,
 ) -> Result<GlobalFit, GlobalFitError> {
-    let c = compile(start, points)?;
-    let opts = LmOptions {
-        lower: c.lower.clone(),
-        upper: c.upper.clone(),
-        max_iterations: 400,
-        ..LmOptions::default()
+    let (mut theta, mut t0) = theta_of(start.solution);
+    let mut held = start.solution.held.clone();
+    let mut first = None;
+    loop {
+        let c = compile(start, points, theta, t0)?;
+        let opts = LmOptions {
+            lower: c.lower.clone(),
+            upper: c.upper.clone(),
+            max_iterations: 400,
+            ..LmOptions::default()
+        };
+        let report =
+            solver::solve(&c.problem, &c.q0, &opts, progress).map_err(GlobalFitError::Solver)?;
+        let cov = covariance(&c.problem, &report, c.noise);
+        let two_step = TwoStep {
+            b: start.solution.parameters.b.map(|e| e.value),
+            c_over_b: start.solution.derived.c_over_b.map(|e| e.value),
+        };
+        let Some((next, h)) = hold_undetermined(theta, &report.x, cov.as_ref(), two_step) else {
+            // Holding did not make the matrix regular: the singularity lies
+            // elsewhere (widths, a free centre), so the first fit stands, with
+            // nothing held beyond the two-step fit's and no σ.
+            if let (None, Some((c, report, _))) = (&cov, first) {
+                let held = start.solution.held.clone();
+                return Ok(build(start, &c, &report, None, held));
+            }
+            return Ok(build(start, &c, &report, cov.as_ref(), held));
+        };
+        t0 = report.x[..next.count()].to_vec();
+        theta = next;
+        held.push(h);
+        first.get_or_insert((c, report, cov));
+    }
+}
+
+/// C = s²(JᵀJ)⁺ with s² = max(σ²_noise, χ²/(N − P)), or χ²/(N − P) when the
+/// noise is unknown; `None` when singular.
+fn covariance(
+    p: &Problem<'_>,
+    report: &solver::LmReport,
+    noise: Option<f64>,
+) -> Option<Covariance> {
+    let (m, n) = (p.x.len(), p.q_count);
+    let include = vec![true; n];
+    // With the noise: J/σ and χ²/σ² under the stated-σ rule, which gives
+    // σ²·max(1, χ²/(σ²(N − P)))·(JᵀJ)⁻¹ = max(σ², χ²/(N − P))·(JᵀJ)⁻¹.
+    let cov = if let Some(sigma) = noise {
+        let scaled: Vec<f64> = report.jacobian.iter().map(|v| v / sigma).collect();
+        let scale = ErrorScale::AtLeastStated {
+            chi2: report.chi2 / (sigma * sigma),
+            points: m,
+            parameters: n,
+        };
+        stats::covariance(&scaled, m, n, &include, scale)
+    } else {
+        let scale = ErrorScale::ReducedChi2 {
+            chi2: report.chi2,
+            points: m,
+            parameters: n,
+        };
+        stats::covariance(&report.jacobian, m, n, &include, scale)
     };
-    let report =
-        solver::solve(&c.problem, &c.q0, &opts, progress).map_err(GlobalFitError::Solver)?;
-    Ok(build(start, &c, &report))
+    cov.filter(|c| !c.rank_deficient)
+}
+
+/// The two-step values a held parameter is held at.
+#[derive(Debug, Clone, Copy)]
+struct TwoStep {
+    b: Option<f64>,
+    c_over_b: Option<f64>,
+}
+
+/// The next θ and the held parameter when the fit at θ leaves its last
+/// ligand-field parameter (C, then B) undetermined: σ above
+/// [`C_DETERMINED`] of its value, or no covariance. `None`: keep this fit.
+fn hold_undetermined(
+    theta: Theta,
+    q: &[f64],
+    cov: Option<&Covariance>,
+    two_step: TwoStep,
+) -> Option<(Theta, Held)> {
+    let last = theta.count() - 1;
+    if last == 0 {
+        return None;
+    }
+    let sigma = cov.and_then(|c| c.sigma(last));
+    if sigma.is_some_and(|s| s <= C_DETERMINED * q[last].abs()) {
+        return None;
+    }
+    let why = match sigma {
+        Some(_) => "the spectrum does not determine it to better than a third of its value",
+        None => "the spectrum does not determine every parameter (singular matrix)",
+    };
+    match theta {
+        Theta::DqBC => {
+            let gamma = two_step.c_over_b.unwrap_or(q[2] / q[1]);
+            Some((
+                Theta::DqB { gamma },
+                Held {
+                    parameter: "C".into(),
+                    value: gamma * q[1],
+                    reason: format!(
+                        "in the global fit {why}: held at the two-step C/B = {gamma:.2}"
+                    ),
+                },
+            ))
+        }
+        Theta::DqB { gamma } => {
+            let b = two_step.b.unwrap_or(q[1]);
+            Some((
+                Theta::Dq { b, c: gamma * b },
+                Held {
+                    parameter: "B".into(),
+                    value: b,
+                    reason: format!(
+                        "in the global fit {why}: held at the two-step B = {b:.0} cm⁻¹"
+                    ),
+                },
+            ))
+        }
+        Theta::Dq { .. } => None,
+    }
 }
 
 /// The global fit of the two-step best assignment and, when the options ask,
@@ -918,17 +1058,16 @@ fn ligand_field_estimates(
 }
 
 /// The card of a solved global fit.
-fn build(start: &Start<'_>, c: &Compiled<'_>, report: &solver::LmReport) -> GlobalFit {
+fn build(
+    start: &Start<'_>,
+    c: &Compiled<'_>,
+    report: &solver::LmReport,
+    cov: Option<&Covariance>,
+    held: Vec<Held>,
+) -> GlobalFit {
     let problem = &c.problem;
     let (m, n) = (problem.x.len(), problem.q_count);
     let q = &report.x;
-    let scale = ErrorScale::ReducedChi2 {
-        chi2: report.chi2,
-        points: m,
-        parameters: n,
-    };
-    let cov = stats::covariance(&report.jacobian, m, n, &vec![true; n], scale)
-        .filter(|c| !c.rank_deficient);
     let mut warnings = Vec::new();
     if cov.is_none() {
         warnings.push("the spectrum does not determine every parameter of the global fit (singular matrix): no uncertainties".into());
@@ -936,8 +1075,10 @@ fn build(start: &Start<'_>, c: &Compiled<'_>, report: &solver::LmReport) -> Glob
     if !report.stop.was_successful() {
         warnings.push(format!("the global fit {}", report.stop));
     }
-    let cv = cov.as_ref();
-    let (parameters, derived) = ligand_field_estimates(problem.theta, q, start.solution, cv);
+    let cv = cov;
+    let (mut parameters, mut derived) =
+        ligand_field_estimates(problem.theta, q, start.solution, cv);
+    mark_held(&held, &mut parameters, &mut derived);
     let transitions = problem
         .transitions(&q[..problem.theta.count()])
         .unwrap_or_default();
@@ -995,8 +1136,13 @@ fn build(start: &Start<'_>, c: &Compiled<'_>, report: &solver::LmReport) -> Glob
         parameter_count: n,
         iterations: report.iterations,
         stopped: report.stop,
-        uncertainty: "residual scatter: σ from χ²/(N − P) times (JᵀJ)⁻¹".into(),
+        uncertainty: if c.noise.is_some() {
+            "σ from max(noise σ², χ²/(N − P)) times (JᵀJ)⁻¹".into()
+        } else {
+            "residual scatter: σ from χ²/(N − P) times (JᵀJ)⁻¹ (noise unknown)".into()
+        },
         assignments: Vec::new(),
+        held,
         warnings,
     }
 }
@@ -1024,4 +1170,223 @@ fn disagreement(name: &str, global: Estimate, two_step: Estimate) -> Option<Stri
             "the global fit and the two-step fit disagree on {name}: {global} against {two_step} cm⁻¹, more than their combined σ ({combined:.0} cm⁻¹)"
         )
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A problem on `labels` (ground first) with one Gaussian band per
+    /// transition, the last with the slope width rule, the rest with their
+    /// own widths, one band with a free centre, and a linear baseline.
+    fn problem(n: u8, theta: Theta, labels: &[&str], x: &[f64]) -> (Problem<'static>, usize) {
+        let model = ligand_field::model(n, Geometry::Octahedral).expect("model");
+        let nt = theta.count();
+        let k = labels.len() - 1;
+        let mut q = nt;
+        let mut next = || {
+            q += 1;
+            q - 1
+        };
+        let mut terms: Vec<Term> = (0..k)
+            .map(|i| Term {
+                shape: Shape::Gaussian,
+                centre: Centre::Transition(i),
+                width: if i + 1 == k {
+                    Width::Slope { q: next(), k: i }
+                } else {
+                    Width::Param(next())
+                },
+                height: next(),
+                extra: None,
+            })
+            .collect();
+        terms.push(Term {
+            shape: Shape::Gaussian,
+            centre: Centre::Free(next()),
+            width: Width::Param(next()),
+            height: next(),
+            extra: None,
+        });
+        let start = next();
+        let x: &'static [f64] = Box::leak(x.to_vec().into_boxed_slice());
+        let y: &'static [f64] = Box::leak(vec![0.0; x.len()].into_boxed_slice());
+        let basis = vec![vec![1.0; x.len()], x.iter().map(|v| v / 20_000.0).collect()];
+        let q_count = start + basis.len();
+        let p = Problem {
+            model,
+            theta,
+            x,
+            y,
+            sqrt_w: vec![1.0; x.len()],
+            start_label: labels[0].to_string(),
+            final_labels: labels[1..].iter().map(|s| (*s).to_string()).collect(),
+            terms,
+            baseline: Baseline { basis, start },
+            q_count,
+            slope_rule: true,
+        };
+        (p, q_count)
+    }
+
+    /// The analytic q-Jacobian of the model (band centres from the
+    /// Hellmann–Feynman derivatives of the engine, slope widths from the
+    /// level curvature, heights, widths, free centres, baseline) equals a
+    /// central finite difference of the model values, column by column, for
+    /// each way of fitting the ligand field (Dq; Dq, B with C = γB; Dq, B, C).
+    #[test]
+    fn every_model_derivative_matches_a_finite_difference() {
+        let x: Vec<f64> = (0..120).map(|i| 6_000.0 + 200.0 * f64::from(i)).collect();
+        let cases: [(u8, Theta, &[&str], &[f64]); 3] = [
+            (
+                3,
+                Theta::Dq {
+                    b: 700.0,
+                    c: 3_000.0,
+                },
+                &["4A2g", "4T2g", "4T1g(F)"],
+                &[1_750.0],
+            ),
+            (
+                8,
+                Theta::DqBC,
+                &["3A2g", "3T2g", "3T1g(F)", "1Eg(D)", "3T1g(P)"],
+                &[860.0, 880.0, 3_900.0],
+            ),
+            (
+                7,
+                Theta::DqB { gamma: 4.4 },
+                &["4T1g(F)", "4T2g", "4A2g", "4T1g(P)"],
+                &[930.0, 840.0],
+            ),
+        ];
+        for (n, theta, labels, t) in cases {
+            let (p, count) = problem(n, theta, labels, &x);
+            let mut q = vec![0.0; count];
+            q[..t.len()].copy_from_slice(t);
+            for (i, term) in p.terms.iter().enumerate() {
+                let w = 2_000.0 + 100.0 * i as f64;
+                match term.width {
+                    Width::Param(j) => q[j] = w,
+                    Width::Slope { q: j, .. } => q[j] = 0.25,
+                }
+                if let Centre::Free(j) = term.centre {
+                    q[j] = 27_000.0;
+                }
+                q[term.height] = 0.2 + 0.05 * i as f64;
+            }
+            q[count - 2..].copy_from_slice(&[0.01, 0.002]);
+            assert_eq!(q.len(), count, "d{n}: parameter layout");
+            let m = x.len();
+            let mut jac = vec![0.0; m * count];
+            p.model_values(&q, Some(&mut jac))
+                .expect("the model evaluates");
+            for a in 0..count {
+                let h = 1e-6 * q[a].abs().max(1.0);
+                let (mut up, mut down) = (q.clone(), q.clone());
+                up[a] += h;
+                down[a] -= h;
+                let fu = p.model_values(&up, None).expect("up");
+                let fd = p.model_values(&down, None).expect("down");
+                let scale = (0..m).map(|i| jac[a * m + i].abs()).fold(1e-12, f64::max);
+                for i in 0..m {
+                    let numeric = (fu[i] - fd[i]) / (2.0 * h);
+                    let analytic = jac[a * m + i];
+                    assert!(
+                        (numeric - analytic).abs() <= 1e-5 * scale,
+                        "d{n} parameter {a} at x = {}: analytic {analytic}, finite difference {numeric}",
+                        x[i]
+                    );
+                }
+            }
+        }
+    }
+
+    /// Each transition's θ-gradient (the band centre's derivative) equals the
+    /// central finite difference of its energy, and the θ-gradient of its slope
+    /// ∂E/∂Δ (the slope width rule's, from the level curvature) that of its
+    /// slope, for every ligand-field parameter.
+    #[test]
+    fn every_band_centre_and_slope_derivative_matches_a_finite_difference() {
+        let (p, _) = problem(
+            8,
+            Theta::DqBC,
+            &["3A2g", "3T2g", "3T1g(F)", "1Eg(D)", "1A1g(G)", "3T1g(P)"],
+            &[10_000.0],
+        );
+        let t = [860.0, 880.0, 3_900.0];
+        let at = |t: &[f64]| p.transitions(t).expect("transitions");
+        for (k, tr) in at(&t).iter().enumerate() {
+            for a in 0..3 {
+                let h = 1e-3;
+                let (mut up, mut down) = (t, t);
+                up[a] += h;
+                down[a] -= h;
+                let (u, d) = (at(&up)[k], at(&down)[k]);
+                let numeric = (u.energy - d.energy) / (2.0 * h);
+                assert!(
+                    (numeric - tr.grad[a]).abs() <= 1e-6 * (1.0 + tr.grad[a].abs()),
+                    "transition {k}, parameter {a}: analytic {}, finite difference {numeric}",
+                    tr.grad[a]
+                );
+                let numeric = (u.slope - d.slope) / (2.0 * h);
+                assert!(
+                    (numeric - tr.slope_grad[a]).abs() <= 1e-6 * tr.slope_grad[a].abs().max(1e-6),
+                    "slope of transition {k}, parameter {a}: analytic {}, finite difference {numeric}",
+                    tr.slope_grad[a]
+                );
+            }
+        }
+    }
+
+    /// A parameter whose σ is above a third of its value is held (C first),
+    /// at the two-step value, and said to be held; a well-determined one is kept.
+    #[test]
+    fn an_undetermined_parameter_is_held_at_the_two_step_value() {
+        let cov = |sigmas: &[f64]| Covariance {
+            matrix: nalgebra::DMatrix::from_diagonal(&nalgebra::DVector::from_iterator(
+                sigmas.len(),
+                sigmas.iter().map(|s| s * s),
+            )),
+            condition: 1.0,
+            rank_deficient: false,
+        };
+        let two_step = TwoStep {
+            b: Some(850.0),
+            c_over_b: Some(4.4),
+        };
+        let q = [930.0, 840.0, 3_700.0];
+        assert!(
+            hold_undetermined(Theta::DqBC, &q, Some(&cov(&[1.0, 5.0, 50.0])), two_step).is_none()
+        );
+        let (next, held) =
+            hold_undetermined(Theta::DqBC, &q, Some(&cov(&[1.0, 5.0, 2_000.0])), two_step)
+                .expect("C is held");
+        assert_eq!(held.parameter, "C");
+        assert_eq!(next, Theta::DqB { gamma: 4.4 });
+        let (next, held) = hold_undetermined(Theta::DqB { gamma: 4.4 }, &q[..2], None, two_step)
+            .expect("B is held when the matrix is singular");
+        assert_eq!(held.parameter, "B");
+        assert_eq!(
+            next,
+            Theta::Dq {
+                b: 850.0,
+                c: 4.4 * 850.0
+            }
+        );
+        assert!(held.reason.contains("singular"), "{}", held.reason);
+        assert!(hold_undetermined(next, &q[..1], None, two_step).is_none());
+    }
+
+    /// The warning comes when the values differ by more than √(σ₁² + σ₂²),
+    /// and not when they are closer or a σ is unknown.
+    #[test]
+    fn a_disagreement_beyond_the_combined_sigma_is_said() {
+        let (g, t) = (Estimate::new(900.0, 3.0), Estimate::new(894.0, 4.0));
+        // Combined σ = 5: 6 apart is a disagreement, 4 apart is not.
+        let w = disagreement("B", g, t).expect("a warning");
+        assert!(w.contains("disagree on B") && w.contains("(5 cm⁻¹)"), "{w}");
+        assert!(disagreement("B", g, Estimate::new(896.0, 4.0)).is_none());
+        assert!(disagreement("B", g, Estimate::exact(800.0)).is_none());
+    }
 }

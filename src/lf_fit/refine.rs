@@ -179,7 +179,7 @@ fn solve(p: &Problem, t: &Tuple, free: Free, theta: &[f64]) -> Option<(Vec<f64>,
 /// C counts as determined by the bands when its σ from the band positions
 /// alone is below a third of its value: C resolved at 3σ (common practice
 /// for calling a fitted parameter significant).
-const C_DETERMINED: f64 = 1.0 / 3.0;
+pub(super) const C_DETERMINED: f64 = 1.0 / 3.0;
 
 /// Fits one assignment and builds its solution.
 ///
@@ -444,7 +444,7 @@ fn build(
 
 /// Every estimate that rests on a held parameter is marked as held: B
 /// (with C = γB, β, Dq/B, Δ/B), or C (with C/B).
-fn mark_held(held: &[Held], parameters: &mut Parameters, derived: &mut Derived) {
+pub(super) fn mark_held(held: &[Held], parameters: &mut Parameters, derived: &mut Derived) {
     let hold = |e: &mut Option<Estimate>| {
         if let Some(v) = e {
             *v = Estimate::held(v.value);

@@ -7,6 +7,7 @@
 //! through the DOM); heavy computation runs in the worker's own instance.
 
 mod document;
+mod global;
 mod ligand;
 
 use crate::figures::spectrum::{self as spectrum_plot, SpectrumFigure};

@@ -245,7 +245,9 @@ function renderLf() {
   const b = fit.best, p = b.parameters, d = b.derived;
   const card = $('lf-card').tBodies[0];
   card.replaceChildren();
-  for (const r of cardRows(fit)) row(card, r, true);
+  const global = lf.analysis.global;
+  $('lf-card').classList.remove('global-card');
+  if (global) globalCard(card, fit, global); else for (const r of cardRows(fit)) row(card, r, true);
   const at = $('lf-assignment').tBodies[0];
   at.replaceChildren();
   const options = stateOptions(lf);
@@ -275,7 +277,8 @@ function renderLf() {
 
 const lfWarnings = (lf) => {
   const b = lf.analysis.fit.best;
-  return [...b.warnings, ...lf.analysis.fit.warnings, ...lf.analysis.warnings, ...b.notes];
+  const g = lf.analysis.global;
+  return [...(g ? globalWarnings(g) : []), ...b.warnings, ...lf.analysis.fit.warnings, ...lf.analysis.warnings, ...b.notes];
 };
 
 /** Transitions (energy, typeset, spin-allowed) at the what-if point, or the fit's predictions. */
